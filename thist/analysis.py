@@ -1,0 +1,249 @@
+"""Runs: case → model, damping and excitation → checks → method → response.
+
+This module only wires the stages together; each stage lives in its own module.
+"""
+
+from __future__ import annotations
+
+import time as _time
+from dataclasses import dataclass
+
+import numpy as np
+
+from thist.case import Case, DampingSpec, MethodSpec, parse_method_entry
+from thist.checks import MethodChecks, check_method
+from thist.damping import (
+    Damping,
+    matrix_damping,
+    modal_damping,
+    no_damping,
+    rayleigh,
+    stiffness_proportional,
+)
+from thist.errors import InputError
+from thist.methods import get_method
+from thist.methods.base import Method, Solution
+from thist.modal import Modes, modal
+from thist.record import Excitation, RecordSummary, sample, summarize
+from thist.response import Response, compute_response
+from thist.structure import Structure
+
+
+@dataclass(frozen=True)
+class History:
+    """Histories from :func:`time_history`, SI, relative to the base.
+
+    ``t`` (N,) in s; ``u``, ``v``, ``a`` (N, n) in m, m/s, m/s²; ``a_abs`` (N, n)
+    absolute acceleration in m/s².
+    """
+
+    t: np.ndarray
+    u: np.ndarray
+    v: np.ndarray
+    a: np.ndarray
+    a_abs: np.ndarray
+
+
+@dataclass(frozen=True)
+class MethodRun:
+    """One method's run of a case: its checks, response and run time.
+
+    ``response`` is None when the checks refused the run.
+    """
+
+    label: str
+    method: Method
+    checks: MethodChecks
+    response: Response | None
+    elapsed: float
+    path: str = "direct"
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    """Everything a run of a case produced."""
+
+    case: Case
+    modes: Modes
+    damping: Damping
+    record_summary: RecordSummary
+    excitation: Excitation
+    runs: tuple[MethodRun, ...]
+
+
+def build_damping(spec: DampingSpec, structure: Structure, modes: Modes) -> Damping:
+    """Build the damping matrix the case asks for, against the model's modes.
+
+    Parameters
+    ----------
+    spec : DampingSpec
+    structure : Structure
+    modes : Modes
+    """
+    M, K, n = structure.M, structure.K, structure.n
+    if spec.model == "none":
+        return no_damping(n, modes)
+    if spec.model == "matrix":
+        return matrix_damping(spec.matrix, modes, "damping matrix given in the case file")
+    if spec.model == "modal":
+        if spec.ratios:
+            desc = "modal, " + ", ".join(f"{z:.3g}" for z in spec.ratios) + " by mode"
+            return modal_damping(M, modes, np.array(spec.ratios), desc)
+        return modal_damping(M, modes, spec.ratio, f"modal, {spec.ratio:.3%} in every mode")
+    if spec.modes:
+        omegas = [float(modes.omegas[j - 1]) for j in spec.modes]
+        where = " and ".join(f"mode {j}" for j in spec.modes)
+    else:
+        omegas = [2.0 * np.pi / T for T in spec.periods]
+        where = " and ".join(f"T = {T:.4g} s" for T in spec.periods)
+    if spec.model == "rayleigh":
+        return rayleigh(
+            M, K, modes, spec.ratio, omegas[0], omegas[1], f"Rayleigh, {spec.ratio:.3%} at {where}"
+        )
+    return stiffness_proportional(
+        K, modes, spec.ratio, omegas[0], f"stiffness-proportional, {spec.ratio:.3%} at {where}"
+    )
+
+
+def _run_method(
+    structure: Structure,
+    C: np.ndarray,
+    ex: Excitation,
+    spec_label: str,
+    method: Method,
+    checks: MethodChecks,
+) -> MethodRun:
+    if checks.refused:
+        return MethodRun(spec_label, method, checks, None, 0.0)
+    p = -np.outer(ex.ag, structure.M @ structure.r)
+    start = _time.perf_counter()
+    sol = method.integrate(structure.M, C, structure.K, p, ex.dt)
+    elapsed = _time.perf_counter() - start
+    resp = compute_response(structure, ex.time, ex.ag, sol.u, sol.v, sol.a)
+    return MethodRun(spec_label, method, checks, resp, elapsed)
+
+
+def run_case(
+    case: Case,
+    methods: list[str] | None = None,
+    dt: float | None = None,
+    *,
+    refuse: bool = True,
+) -> CaseResult:
+    """Run a case with its own methods, or with ``methods`` instead.
+
+    Parameters
+    ----------
+    case : Case
+        From :func:`thist.load_case`.
+    methods : list of str, optional
+        Method names to run instead of the case's.
+    dt : float, optional
+        Analysis step, s, instead of the case's.
+    refuse : bool
+        If True (default), a method refused by a stability check raises
+        :class:`~thist.errors.StabilityError` before any run; if False it is
+        kept as a refused run with no response.
+
+    Returns
+    -------
+    CaseResult
+    """
+    structure = case.structure
+    specs: tuple[MethodSpec, ...] = (
+        case.analysis.methods
+        if methods is None
+        else tuple(parse_method_entry(m, f"--method {m}", None) for m in methods)
+    )
+    modes = modal(structure.M, structure.K, structure.r)
+    damping = build_damping(case.damping, structure, modes)
+    step = dt or case.analysis.dt or case.record.dt
+    ex = sample(case.record, step, case.analysis.duration, case.analysis.allow_coarse_dt)
+    all_checks = [
+        check_method(
+            s.method,
+            s.label,
+            modes,
+            damping.ratios,
+            ex.dt,
+            case.record.dt,
+            case.checks.mass_ratio,
+            case.checks.steps_per_period,
+        )
+        for s in specs
+    ]
+    if refuse:
+        for c in all_checks:
+            c.raise_if_refused()
+    runs = tuple(
+        _run_method(structure, damping.C, ex, s.label, s.method, c)
+        for s, c in zip(specs, all_checks, strict=True)
+    )
+    return CaseResult(case, modes, damping, summarize(case.record), ex, runs)
+
+
+def time_history(
+    M: np.ndarray,
+    C: np.ndarray,
+    K: np.ndarray,
+    ag: np.ndarray,
+    dt: float,
+    method: str = "newmark-average",
+    *,
+    r: np.ndarray | None = None,
+    beta: float | None = None,
+    gamma: float | None = None,
+    **params: float,
+) -> History:
+    """Response of a linear model to a base acceleration, SI arrays in and out.
+
+    Parameters
+    ----------
+    M, C, K : array_like, shape (n, n)
+        Mass (kg), damping (N·s/m) and stiffness (N/m) matrices.
+    ag : array_like, shape (N,)
+        Ground acceleration sampled at ``dt``, m/s².
+    dt : float
+        Time step, s.
+    method : str
+        A method name (see :func:`thist.methods.method_names`).
+    r : array_like, shape (n,), optional
+        Influence vector; ones by default.
+    beta, gamma : float, optional
+        Newmark parameters for ``method="newmark"``.
+    **params : float
+        Other method parameters (``alpha`` for hht, ``rho_inf`` for generalized-alpha).
+
+    Returns
+    -------
+    History
+        Starting from rest.
+
+    Raises
+    ------
+    StabilityError
+        ``dt`` above the method's stability limit for the highest mode.
+    InputError
+        Inconsistent shapes or unknown method.
+    """
+    M, C, K = (np.atleast_2d(np.asarray(x, dtype=float)) for x in (M, C, K))
+    ag = np.asarray(ag, dtype=float).ravel()
+    n = M.shape[0]
+    if not (M.shape == C.shape == K.shape == (n, n)):
+        raise InputError(f"M, C and K must all be ({n}, {n})", "M, C, K")
+    if not (np.isfinite(dt) and dt > 0):
+        raise InputError(f"must be positive, got {dt!r}", "dt")
+    if ag.size < 2 or not np.all(np.isfinite(ag)):
+        raise InputError("must hold at least 2 finite samples", "ag")
+    r = np.ones(n) if r is None else np.asarray(r, dtype=float)
+    if beta is not None:
+        params["beta"] = beta
+    if gamma is not None:
+        params["gamma"] = gamma
+    m = get_method(method, **params)
+    modes = modal(M, K, r)
+    check_method(m, method, modes, np.zeros(n), dt, dt).raise_if_refused()
+    p = -np.outer(ag, M @ r)
+    sol: Solution = m.integrate(M, C, K, p, dt)
+    t = np.arange(ag.size) * dt
+    return History(t, sol.u, sol.v, sol.a, sol.a + np.outer(ag, r))

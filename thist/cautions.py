@@ -1,0 +1,34 @@
+"""The cautions that go with every result: terminal, report and README say the same."""
+
+from __future__ import annotations
+
+#: One line for the terminal.
+SHORT = (
+    "CAUTION: preliminary estimate only - not a substitute for the analysis and checks the "
+    "governing building code requires; defer to local codes and to the licensed engineer of "
+    "record."
+)
+
+#: Status line of every report.
+STATUS = "Preliminary estimate - not for construction"
+
+#: Full cautions for the report, in order.
+FULL: tuple[str, ...] = (
+    "This is a preliminary estimate made with an idealised model: lumped masses joined by "
+    "story springs on a fixed base, shaken in one horizontal direction.",
+    "Results depend on the idealisation of the structure (masses, story stiffnesses, spring "
+    "laws, damping) and on the selection and scaling of the ground-motion records.",
+    "It is not a substitute for the analysis and design checks required by the governing "
+    "building code. Defer to local codes and to the licensed engineer of record.",
+    "Every input must be reviewed by a qualified engineer before any result is used.",
+    "The software is provided without warranty of any kind.",
+)
+
+#: What the model leaves out, for the scope section.
+NOT_INCLUDED = (
+    "soil-structure interaction",
+    "torsion and plan irregularity",
+    "P-delta effects (unless modelled in the story springs)",
+    "vertical ground motion",
+    "foundation flexibility and uplift",
+)
