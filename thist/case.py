@@ -46,6 +46,12 @@ class _Table:
         if key in self.data:
             return self.data[key]
         if default is _MISSING:
+            # A typo of a required key is reported as the typo, not as a missing key.
+            near = difflib.get_close_matches(
+                key, [k for k in self.data if k not in self.used], n=1, cutoff=0.6
+            )
+            if near:
+                raise self.error(near[0], f"unknown key; did you mean {key!r}?")
             raise self.error(key, "is required")
         return default
 
@@ -101,6 +107,8 @@ class _Table:
 
     def list(self, key: str, default: Any = _MISSING) -> list:
         value = self.raw(key, default)
+        if value is default and default is not _MISSING:
+            return value
         if not isinstance(value, list):
             raise self.error(key, f"expected a list, got {value!r}")
         return value

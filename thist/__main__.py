@@ -1,0 +1,5 @@
+import sys
+
+from thist.cli import main
+
+sys.exit(main())
