@@ -1,0 +1,1 @@
+"""Speed measurements of thist (ratios in one run; run each module with python -m)."""
