@@ -353,35 +353,52 @@ def test_average_acceleration_runs_at_five_times_t_min():
 
 
 def test_non_classically_damped_three_story_model_matches_solve_ivp():
-    """A 3-story model with a non-classical damping matrix (a damper in story 1 only)
-    on a piecewise-linear random record vs scipy.integrate.solve_ivp (DOP853, rtol
-    1e-11, max_step dt) with the record linearly interpolated. Newmark average at
-    dt = T_min/200 has a period error ~1e-5; tolerance 0.1 % of the peak.
+    """A 3-story model with a non-classical damping matrix (a viscous damper in story 1
+    only) on the first 6 s of the demo record vs scipy.integrate.solve_ivp (DOP853,
+    rtol 1e-11, max_step = dt) with the record interpolated linearly, as thist does.
+    Newmark average at dt <= T_min/100 has a period error ~3e-4 on the highest mode
+    and ~1e-5 on the first; tolerance 0.2 % of the peak displacement.
     """
+    from pathlib import Path
+
     from scipy.integrate import solve_ivp
 
+    from thist.record import read_record, sample
     from thist.structure import shear_chain
 
+    rec = read_record(
+        Path(__file__).parent.parent / "inputs" / "records" / "alder-row-synthetic.txt",
+        time_column="time_s",
+        acceleration_column="accel_m_s2",
+    )
     s = shear_chain([3e5, 3e5, 2e5], [4e8, 3e8, 2e8], [4, 3.5, 3.5])
-    C = np.zeros((3, 3))
-    C[0, 0] = 2.0e6  # a viscous damper in the first story only
-    C += 0.002 * s.K
+    C = 0.002 * s.K
+    C[0, 0] += 2.0e6  # the damper
     modes = thist.modal(s.M, s.K)
-    dt = modes.periods[-1] / 200
-    rng = np.random.default_rng(11)
-    n = 800
-    ag = np.convolve(rng.standard_normal(n), np.ones(20) / 20, mode="same") * 2.0
-    h = thist.time_history(s.M, C, s.K, ag, dt, "newmark-average")
-    t = np.arange(n) * dt
+    modal_c = modes.shapes.T @ C @ modes.shapes
+    assert np.max(np.abs(modal_c - np.diag(np.diag(modal_c)))) > 0.1 * np.max(modal_c)
+    t_min = modes.periods[-1]
+    dt = rec.dt / math.ceil(rec.dt / (t_min / 100))
+    ex = sample(rec, dt, duration=6.0)
+    h = thist.time_history(s.M, C, s.K, ex.ag, dt, "newmark-average")
     Minv = np.linalg.inv(s.M)
+    t_rec = rec.time
 
     def rhs(tt, y):
         u, v = y[:3], y[3:]
-        a_g = np.interp(tt, t, ag)
+        a_g = np.interp(tt, t_rec, rec.ag)
         return np.concatenate([v, Minv @ (-s.M @ np.ones(3) * a_g - C @ v - s.K @ u)])
 
     ref = solve_ivp(
-        rhs, (0, t[-1]), np.zeros(6), method="DOP853", t_eval=t, rtol=1e-11, atol=1e-14, max_step=dt
+        rhs,
+        (0, ex.time[-1]),
+        np.zeros(6),
+        method="DOP853",
+        t_eval=ex.time,
+        rtol=1e-11,
+        atol=1e-14,
+        max_step=dt,
     )
     err = np.max(np.abs(h.u - ref.y[:3].T))
-    assert err < 1e-3 * np.max(np.abs(ref.y[:3]))
+    print(f"max error / peak = {err / np.max(np.abs(ref.y[:3])):.2e}")
+    assert err < 2e-3 * np.max(np.abs(ref.y[:3]))
