@@ -11,6 +11,7 @@ from thist.errors import InputError
 from thist.methods.alpha import HHT, GeneralizedAlpha, Newmark
 from thist.methods.base import Method, Solution, SpectralProperties, spectral_properties
 from thist.methods.central_difference import CentralDifference
+from thist.methods.exact import Exact
 
 #: Preset name -> (class, fixed parameters). User parameters may add to these.
 PRESETS: dict[str, tuple[type[Method], dict[str, float]]] = {
@@ -20,6 +21,7 @@ PRESETS: dict[str, tuple[type[Method], dict[str, float]]] = {
     "central-difference": (CentralDifference, {}),
     "hht": (HHT, {}),
     "generalized-alpha": (GeneralizedAlpha, {}),
+    "exact": (Exact, {}),
 }
 
 #: Parameters a user may set for each preset.
@@ -30,6 +32,7 @@ USER_PARAMETERS: dict[str, tuple[str, ...]] = {
     "central-difference": (),
     "hht": ("alpha",),
     "generalized-alpha": ("rho_inf",),
+    "exact": (),
 }
 
 
@@ -73,6 +76,7 @@ def get_method(name: str, **params: float) -> Method:
 
 __all__ = [
     "CentralDifference",
+    "Exact",
     "GeneralizedAlpha",
     "HHT",
     "Method",
