@@ -20,6 +20,7 @@ from thist.damping import (
     rayleigh,
     stiffness_proportional,
 )
+from thist.energy import EnergyBalance, energy_balance
 from thist.errors import InputError
 from thist.methods import get_method
 from thist.methods.base import Method, Solution
@@ -46,9 +47,9 @@ class History:
 
 @dataclass(frozen=True)
 class MethodRun:
-    """One method's run of a case: its checks, response and run time.
+    """One method's run of a case: its checks, response, energy balance and run time.
 
-    ``response`` is None when the checks refused the run.
+    ``response`` and ``energy`` are None when the checks refused the run.
     """
 
     label: str
@@ -57,6 +58,7 @@ class MethodRun:
     response: Response | None
     elapsed: float
     path: str = "direct"
+    energy: EnergyBalance | None = None
 
 
 @dataclass(frozen=True)
@@ -120,7 +122,11 @@ def _run_method(
     sol = method.integrate(structure.M, C, structure.K, p, ex.dt)
     elapsed = _time.perf_counter() - start
     resp = compute_response(structure, ex.time, ex.ag, sol.u, sol.v, sol.a)
-    return MethodRun(spec_label, method, checks, resp, elapsed)
+    rule = "exact" if method.name == "exact" else "trapezoid"
+    energy = energy_balance(
+        structure.M, C, structure.K, structure.r, ex.time, ex.ag, sol.u, sol.v, rule=rule
+    )
+    return MethodRun(spec_label, method, checks, resp, elapsed, energy=energy)
 
 
 def run_case(

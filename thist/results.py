@@ -96,6 +96,8 @@ def _run_dict(run: MethodRun) -> dict:
             }
             for name, p in run.response.peaks().items()
         }
+    if run.energy is not None:
+        out["energy"] = {**run.energy.final(), "unit": "J"}
     return out
 
 
@@ -304,5 +306,10 @@ def summary_text(result: CaseResult) -> str:
                 f"{du.show(pk['overturning_moment'].values, 'moment'):.4g} {MO}"
             )
         out.append(line)
+        if run.energy is not None:
+            out.append(
+                f"  energy balance error {run.energy.balance_error:.2e} of the peak input "
+                f"energy {run.energy.peak_input / 1e3:.4g} kJ"
+            )
     out += ["", cautions.SHORT]
     return "\n".join(out)
