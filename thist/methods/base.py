@@ -149,6 +149,33 @@ class Method(ABC):
         Solution
         """
 
+    def modal_outputs(
+        self, X: np.ndarray, f: np.ndarray, m: float, c: float, k: float, dt: float
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """One DOF's (u, v, a) histories from its recurrence states.
+
+        Parameters
+        ----------
+        X : ndarray, shape (N + 1, s)
+            States x[0] … x[N] of :meth:`step_matrices` (one past the last sample).
+        f : ndarray, shape (N + 1,)
+            Load at the same samples.
+        m, c, k : float
+            The DOF's mass, damping and stiffness.
+        dt : float
+            Time step, s.
+
+        Returns
+        -------
+        (u, v, a) : ndarrays, shape (N,)
+            The default reads a state (u, v, a), or (u, v) with a from equilibrium.
+        """
+        n = f.size - 1
+        if X.shape[1] >= 3:
+            return X[:n, 0], X[:n, 1], X[:n, 2]
+        u, v = X[:n, 0], X[:n, 1]
+        return u, v, (f[:n] - c * v - k * u) / m
+
     def spectral_properties(self, omega_dt: float, zeta: float = 0.0) -> SpectralProperties:
         """Period error and algorithmic damping at Ω = ωΔt from the amplification matrix.
 

@@ -59,6 +59,14 @@ class CentralDifference(Method):
         h = 0.5 * dt * dt
         return np.array([[1.0, 0.0, 0.0], [1.0 + h * a_u, -dt + h * a_v, h * a_f]])
 
+    def modal_outputs(self, X, f, m, c, k, dt):
+        # X[n] = (u[n], u[n-1]) for n = 0 .. N; central differences as in integrate().
+        u_ext = np.concatenate([X[:1, 1], X[:, 0]])
+        u = u_ext[1:-1]
+        v = (u_ext[2:] - u_ext[:-2]) / (2.0 * dt)
+        a = (u_ext[2:] - 2.0 * u + u_ext[:-2]) / dt**2
+        return u, v, a
+
     def integrate(self, M, C, K, p, dt, u0=None, v0=None):
         n_steps, n = p.shape
         u0 = np.zeros(n) if u0 is None else np.asarray(u0, dtype=float)
