@@ -12,9 +12,12 @@ References:
 * ``lfilter all at once``: one ``lfilter`` call on all 300 series stacked in a
   (300, N) array (one filter for all rows, the speed floor of a C recurrence);
 
-``response_spectrum`` gives displacement, velocity and absolute acceleration peaks,
-i.e. more than either reference.  The peak displacements of the per-period
-reference are compared with the spectrum as a cross-check.
+The spectrum's small matrix products go through BLAS; on a busy two-core machine
+OpenBLAS threading makes the timings noisy, and ``OPENBLAS_NUM_THREADS=1`` gives
+steadier (and here faster) ratios.  ``response_spectrum`` gives displacement,
+velocity and absolute acceleration peaks, i.e. more than either reference.  The
+peak displacements of the per-period reference are compared with the spectrum as a
+cross-check.
 """
 
 from __future__ import annotations
