@@ -23,6 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from thist.errors import InputError
+from thist.intensity import ground_motion_histories
 
 #: Largest deviation of any time interval from the mean interval, as a fraction of it.
 UNIFORM_TIME_TOLERANCE = 1e-3
@@ -100,30 +101,10 @@ class RecordSummary:
     final_displacement: float
 
 
-def integrate_record(ag: np.ndarray, dt: float) -> tuple[np.ndarray, np.ndarray]:
-    """Ground velocity and displacement from rest by the trapezoidal rule.
-
-    Parameters
-    ----------
-    ag : ndarray, shape (N,)
-        Ground acceleration, m/s².
-    dt : float
-        Time step, s.
-
-    Returns
-    -------
-    (vg, dg) : ndarrays, shape (N,)
-        Velocity (m/s) and displacement (m).
-    """
-    vg = np.concatenate([[0.0], np.cumsum(0.5 * dt * (ag[1:] + ag[:-1]))])
-    dg = np.concatenate([[0.0], np.cumsum(0.5 * dt * (vg[1:] + vg[:-1]))])
-    return vg, dg
-
-
 def summarize(record: Record) -> RecordSummary:
     """Number of points, Δt, duration, PGA/PGV/PGD with their times."""
     ag, dt = record.ag, record.dt
-    vg, dg = integrate_record(ag, dt)
+    vg, dg = ground_motion_histories(ag, dt)
     ia, iv, id_ = (int(np.argmax(np.abs(x))) for x in (ag, vg, dg))
     return RecordSummary(
         record.npts,

@@ -36,7 +36,6 @@ give the same record bit for bit (on the same numpy/scipy build).
 from __future__ import annotations
 
 import os
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -46,6 +45,7 @@ from scipy.linalg import expm, solve_discrete_lyapunov
 from scipy.signal import sosfilt, ss2tf, tf2sos
 
 from thist.errors import InputError
+from thist.fileio import write_text
 from thist.intensity import arias_intensity
 from thist.processing import ProcessingStep, baseline_correct, positive_number
 
@@ -418,15 +418,5 @@ def write_record(path: str | os.PathLike[str], synthetic: SyntheticRecord) -> Pa
     t = np.arange(synthetic.ag.size) * synthetic.dt
     body = "\n".join(f"{ti:.9g} {ai:.17g}" for ti, ai in zip(t, synthetic.ag, strict=True))
     text = "\n".join(lines) + "\n" + body + "\n"
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, target)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    write_text(target, text)
     return target
