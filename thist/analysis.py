@@ -26,6 +26,7 @@ from thist.methods import get_method
 from thist.methods.base import Method, Solution
 from thist.methods.modal_path import integrate_modal
 from thist.modal import Modes, modal
+from thist.motion import GroundMotion, prepare_motion
 from thist.record import Excitation, RecordSummary, sample, summarize
 from thist.response import Response, compute_response
 from thist.structure import Structure, general_model
@@ -72,6 +73,7 @@ class CaseResult:
     record_summary: RecordSummary
     excitation: Excitation
     runs: tuple[MethodRun, ...]
+    motion: GroundMotion | None = None
 
 
 def build_damping(spec: DampingSpec, structure: Structure, modes: Modes) -> Damping:
@@ -156,6 +158,57 @@ def _run_method(
     return MethodRun(spec_label, method, checks, resp, elapsed, path=path, energy=energy)
 
 
+@dataclass(frozen=True)
+class Prepared:
+    """Everything a run needs before the first step: the stages up to the checks."""
+
+    specs: tuple[MethodSpec, ...]
+    modes: Modes
+    damping: Damping
+    motion: GroundMotion
+    excitation: Excitation
+    checks: tuple[MethodChecks, ...]
+
+
+def prepare(case: Case, methods: list[str] | None = None, dt: float | None = None) -> Prepared:
+    """Modes, damping, the processed and scaled ground motion, sampling, and the checks.
+
+    Parameters
+    ----------
+    case : Case
+    methods : list of str, optional
+        Method names (or ``name`` strings) instead of the case's.
+    dt : float, optional
+        Analysis step, s, instead of the case's (default: the record's step).
+    """
+    structure = case.structure
+    specs: tuple[MethodSpec, ...] = (
+        case.analysis.methods
+        if methods is None
+        else tuple(parse_method_entry(m, f"--method {m}", None) for m in methods)
+    )
+    modes = modal(structure.M, structure.K, structure.r)
+    damping = build_damping(case.damping, structure, modes)
+    motion = prepare_motion(case.motion, float(modes.periods[0]))
+    rec = motion.record
+    step = dt or case.analysis.dt or rec.dt
+    ex = sample(rec, step, case.analysis.duration, case.analysis.allow_coarse_dt)
+    checks = tuple(
+        check_method(
+            s.method,
+            s.label,
+            modes,
+            damping.ratios,
+            ex.dt,
+            rec.dt,
+            case.checks.mass_ratio,
+            case.checks.steps_per_period,
+        )
+        for s in specs
+    )
+    return Prepared(specs, modes, damping, motion, ex, checks)
+
+
 def run_case(
     case: Case,
     methods: list[str] | None = None,
@@ -182,37 +235,23 @@ def run_case(
     -------
     CaseResult
     """
-    structure = case.structure
-    specs: tuple[MethodSpec, ...] = (
-        case.analysis.methods
-        if methods is None
-        else tuple(parse_method_entry(m, f"--method {m}", None) for m in methods)
-    )
-    modes = modal(structure.M, structure.K, structure.r)
-    damping = build_damping(case.damping, structure, modes)
-    step = dt or case.analysis.dt or case.record.dt
-    ex = sample(case.record, step, case.analysis.duration, case.analysis.allow_coarse_dt)
-    all_checks = [
-        check_method(
-            s.method,
-            s.label,
-            modes,
-            damping.ratios,
-            ex.dt,
-            case.record.dt,
-            case.checks.mass_ratio,
-            case.checks.steps_per_period,
-        )
-        for s in specs
-    ]
+    pre = prepare(case, methods, dt)
     if refuse:
-        for c in all_checks:
+        for c in pre.checks:
             c.raise_if_refused()
     runs = tuple(
-        _run_method(structure, damping, modes, ex, s.label, s.method, c)
-        for s, c in zip(specs, all_checks, strict=True)
+        _run_method(case.structure, pre.damping, pre.modes, pre.excitation, s.label, s.method, c)
+        for s, c in zip(pre.specs, pre.checks, strict=True)
     )
-    return CaseResult(case, modes, damping, summarize(case.record), ex, runs)
+    return CaseResult(
+        case,
+        pre.modes,
+        pre.damping,
+        summarize(pre.motion.record),
+        pre.excitation,
+        runs,
+        pre.motion,
+    )
 
 
 def time_history(

@@ -20,6 +20,7 @@ from thist.errors import InputError
 from thist.methods import get_method
 from thist.methods.base import Method
 from thist.record import Record, read_record
+from thist.scaling import TargetSpectrum, target_from_table, target_two_parameter
 from thist.structure import Structure, general_model, shear_chain
 from thist.units import US_CUSTOMARY, DisplayUnits, parse_quantity, parse_unit
 
@@ -141,6 +142,46 @@ class DampingSpec:
 
 
 @dataclass(frozen=True)
+class ScalingSpec:
+    """Scaling of the record to the user's target spectrum (SI).
+
+    Exactly one of ``period`` (s), ``period_t1`` (multiple of T₁), ``period_range``
+    (s, s) and ``range_t1`` (multiples of T₁) is set.
+    """
+
+    target: TargetSpectrum
+    period: float | None = None
+    period_t1: float | None = None
+    period_range: tuple[float, float] | None = None
+    range_t1: tuple[float, float] | None = None
+    bounds: tuple[float, float] = (0.0, math.inf)
+    damping: float = 0.05
+
+    def periods_for(self, t1: float) -> tuple[float | None, tuple[float, float] | None]:
+        """(period, period_range) in seconds for a structure whose T₁ is ``t1`` (s)."""
+        if self.period is not None:
+            return self.period, None
+        if self.period_t1 is not None:
+            return self.period_t1 * t1, None
+        if self.period_range is not None:
+            return None, self.period_range
+        lo, hi = self.range_t1  # type: ignore[misc]
+        return None, (lo * t1, hi * t1)
+
+
+@dataclass(frozen=True)
+class RecordSpec:
+    """A record as the case gives it: the file read, the processing and the scaling.
+
+    ``processing`` holds plain step dicts in SI for :func:`thist.processing.apply_steps`.
+    """
+
+    record: Record
+    processing: tuple[dict[str, Any], ...] = ()
+    scaling: ScalingSpec | None = None
+
+
+@dataclass(frozen=True)
 class MethodSpec:
     """One method requested by the case: its name, user parameters and built object."""
 
@@ -201,7 +242,8 @@ class Case:
         Free text from the user.
     structure : Structure
     damping : DampingSpec
-    record : Record
+    motion : RecordSpec
+        The record file as read, with its processing steps and scaling rule.
     analysis : AnalysisSpec
     checks : CheckSpec
     display : DisplayUnits
@@ -215,10 +257,15 @@ class Case:
     notes: str
     structure: Structure
     damping: DampingSpec
-    record: Record
+    motion: RecordSpec
     analysis: AnalysisSpec
     checks: CheckSpec
     display: DisplayUnits = field(default_factory=DisplayUnits)
+
+    @property
+    def record(self) -> Record:
+        """The record file as read (before processing and scaling)."""
+        return self.motion.record
 
 
 def load_case(path: str | Path) -> Case:
@@ -256,7 +303,7 @@ def load_case(path: str | Path) -> Case:
     notes = top.string("notes", "")
     structure = _structure(top.table("structure"), fname)
     damping = _damping(top.table("damping", {"model": "none"}), structure.n)
-    record = _record(top.table("record"), path.parent)
+    record = parse_record(top.table("record"), path.parent)
     analysis = _analysis(top.table("analysis"))
     checks = _checks(top.table("checks", {}))
     display = _display(top.table("display", {}))
@@ -397,7 +444,16 @@ def _damping(t: _Table, n: int) -> DampingSpec:
     return DampingSpec(model, ratio=ratio, modes=modes, periods=periods)
 
 
-def _record(t: _Table, base: Path) -> Record:
+def parse_record(t: _Table, base: Path) -> RecordSpec:
+    """Read a record table (file, layout, unit, processing, scaling) into a RecordSpec.
+
+    Parameters
+    ----------
+    t : _Table
+        The table, e.g. ``[record]`` of a case or one record of a study.
+    base : Path
+        Folder that relative paths are taken from.
+    """
     file = t.string("file")
     layout = t.string("layout", "columns", ("columns", "values"))
     unit = t.string("unit")
@@ -419,9 +475,15 @@ def _record(t: _Table, base: Path) -> Record:
         for key, v in (("time_column", time_col), ("acceleration_column", acc_col)):
             if isinstance(v, bool) or not isinstance(v, int | str):
                 raise t.error(key, "expected a column name or a position (1 = first)")
+    steps = tuple(
+        _processing_step(_Table(item, f"{t.where('processing')}[{i}]", t.file))
+        for i, item in enumerate(t.list("processing", []))
+    )
+    scaling = _scaling(t.table("scaling"), base) if t.has("scaling") else None
+    t.used.add("scaling")
     t.finish()
     path = Path(file) if Path(file).is_absolute() else base / file
-    return read_record(
+    record = read_record(
         path,
         layout=layout,
         unit_si=unit_si,
@@ -434,6 +496,126 @@ def _record(t: _Table, base: Path) -> Record:
         field_prefix=t.path,
         case_file=t.file,
     )
+    return RecordSpec(record, steps, scaling)
+
+
+#: Processing steps: case-file key -> (key of thist.processing, dimension or kind).
+_STEP_KEYS: dict[str, dict[str, tuple[str, str]]] = {
+    "baseline": {"order": ("order", "int")},
+    "filter": {
+        "kind": ("kind", "text"),
+        "low": ("f_low", "frequency"),
+        "high": ("f_high", "frequency"),
+        "order": ("order", "int"),
+        "pad": ("pad_time", "time"),
+    },
+    "taper": {"start": ("start", "time"), "end": ("end", "time")},
+    "pad": {"before": ("before", "time"), "after": ("after", "time")},
+    "resample": {"dt": ("dt", "time")},
+}
+
+
+def _processing_step(t: _Table) -> dict[str, Any]:
+    name = t.string("step", choices=tuple(_STEP_KEYS))
+    out: dict[str, Any] = {"step": name}
+    for key, (target, kind) in _STEP_KEYS[name].items():
+        if not t.has(key):
+            t.used.add(key)
+            continue
+        if kind == "int":
+            out[target] = t.integer(key)
+        elif kind == "text":
+            out[target] = t.string(key, choices=("bandpass", "highpass", "lowpass"))
+        else:
+            out[target] = t.quantity(key, kind)
+    t.finish()
+    return out
+
+
+def _scaling(t: _Table, base: Path) -> ScalingSpec:
+    basis = t.string("basis")
+    if not basis.strip():
+        raise t.error("basis", "state where the target spectrum comes from")
+    try:
+        if t.has("target_file") == t.has("target_shape"):
+            raise t.error(None, "give either target_file or target_shape")
+        if t.has("target_file"):
+            path = Path(t.string("target_file"))
+            path = path if path.is_absolute() else base / path
+            unit_si = parse_unit(t.raw("psa_unit"), "acceleration", t.where("psa_unit"), t.file)
+            periods, psa = _read_target_table(path, t.where("target_file"), t.file)
+            target = target_from_table(periods, psa * unit_si, basis)
+        else:
+            shape = t.table("target_shape")
+            target = target_two_parameter(
+                shape.quantity("s_short", "acceleration"),
+                shape.quantity("s_one", "acceleration"),
+                shape.quantity("t_long", "time"),
+                basis,
+            )
+            shape.finish()
+        t.used.update(("target_file", "target_shape", "psa_unit"))
+        given = [k for k in ("period", "period_t1", "period_range", "range_t1") if t.has(k)]
+        if len(given) != 1:
+            raise t.error(None, "give exactly one of period, period_t1, period_range, range_t1")
+        kw: dict[str, Any] = {}
+        if t.has("period"):
+            kw["period"] = t.quantity("period", "time")
+        if t.has("period_t1"):
+            kw["period_t1"] = t.number("period_t1")
+        if t.has("period_range"):
+            rng = t.list("period_range")
+            if len(rng) != 2:
+                raise t.error("period_range", "expected two periods")
+            kw["period_range"] = tuple(
+                parse_quantity(x, "time", t.where("period_range"), t.file) for x in rng
+            )
+        if t.has("range_t1"):
+            rng = t.list("range_t1")
+            if len(rng) != 2 or not all(
+                isinstance(x, int | float) and not isinstance(x, bool) for x in rng
+            ):
+                raise t.error("range_t1", "expected two multiples of T1, e.g. [0.2, 2.0]")
+            kw["range_t1"] = (float(rng[0]), float(rng[1]))
+        for key in ("period_range", "range_t1"):
+            if key in kw and not 0 < kw[key][0] < kw[key][1]:
+                raise t.error(key, "must be increasing and positive")
+        for key in ("period", "period_t1"):
+            if key in kw and not kw[key] > 0:
+                raise t.error(key, "must be positive")
+        lo = t.number("factor_min", 0.0)
+        hi = t.number("factor_max") if t.has("factor_max") else math.inf
+        t.used.add("factor_max")
+        if not 0 <= lo < hi:
+            raise t.error("factor_min", "need 0 <= factor_min < factor_max")
+        damping = t.ratio("damping", 0.05, hi=0.999)
+        t.finish()
+    except InputError as exc:
+        if exc.file:
+            raise
+        raise exc.located(t.file, t.path) from None
+    return ScalingSpec(target, bounds=(lo, hi), damping=damping, **kw)
+
+
+def _read_target_table(path: Path, field_name: str, file: str) -> tuple[np.ndarray, np.ndarray]:
+    """Two columns, period (s) and PSA; '#' comments and a row of names allowed."""
+    if not path.is_file():
+        raise InputError(f"target file not found: {path}", field_name, file)
+    rows = []
+    for lineno, line in enumerate(path.read_text(encoding="utf-8").splitlines(), 1):
+        s = line.strip()
+        if not s or s.startswith("#"):
+            continue
+        toks = [x for x in s.replace(",", " ").replace(";", " ").split() if x]
+        try:
+            rows.append([float(toks[0]), float(toks[1])])
+        except (ValueError, IndexError):
+            if rows:
+                raise InputError(f"line {lineno}: expected two numbers", None, path.name) from None
+    if len(rows) < 2:
+        raise InputError("a target table needs at least 2 rows of period, PSA", None, path.name)
+    arr = np.asarray(rows)
+    return arr[:, 0], arr[:, 1]
 
 
 def parse_method_entry(entry: Any, where: str, file: str | None) -> MethodSpec:
