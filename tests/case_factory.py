@@ -12,7 +12,7 @@ import numpy as np
 from scipy import signal
 
 CASE_TEMPLATE = """\
-title = {title!r}
+title = {title}
 notes = "Invented five-story frame for tests."
 
 [structure]
@@ -60,6 +60,7 @@ def write_case(
     n_stories: int = 5,
     record_dt: float = 0.01,
     duration: float = 8.0,
+    stiffness_scale: float = 1.0,
 ) -> Path:
     """Write case.toml and record.csv into ``folder``; return the case path."""
     folder.mkdir(parents=True, exist_ok=True)
@@ -67,7 +68,7 @@ def write_case(
     lines = ["time,acc"] + [f"{ti:.4f},{ai:.8e}" for ti, ai in zip(t, ag, strict=True)]
     (folder / "record.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
     stories = ",\n".join(
-        f'  {{ mass = "{300 - 20 * i} t", stiffness = "{400 - 50 * i} MN/m", '
+        f'  {{ mass = "{300 - 20 * i} t", stiffness = "{(400 - 50 * i) * stiffness_scale:g} MN/m", '
         f'height = "{4.5 if i == 0 else 3.5} m", label = "F{i + 1}" }}'
         for i in range(n_stories)
     )
@@ -75,10 +76,10 @@ def write_case(
     if drift_limit is not None:
         checks = (
             f"[checks]\ndrift_ratio_limit = {drift_limit[0]}\n"
-            f"drift_ratio_limit_basis = {drift_limit[1]!r}\n"
+            f"drift_ratio_limit_basis = {_toml_string(drift_limit[1])}\n"
         )
     text = CASE_TEMPLATE.format(
-        title=title,
+        title=_toml_string(title),
         stories=stories,
         methods="[" + ", ".join(f'"{m}"' for m in methods) + "]",
         dt_line=f'dt = "{dt}"' if dt else "",
@@ -87,3 +88,10 @@ def write_case(
     path = folder / "case.toml"
     path.write_text(text, encoding="utf-8")
     return path
+
+
+def _toml_string(text: str) -> str:
+    """A TOML basic string (JSON escaping is valid TOML for these characters)."""
+    import json
+
+    return json.dumps(text, ensure_ascii=False)

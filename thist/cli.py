@@ -1,8 +1,10 @@
 """The ``thist`` command.
 
-Subcommands: ``run`` (analyse a case and write results), ``check`` (model,
-modes and every time-step check, no integration). Bad input or a refused time
-step is one line on stderr and exit status 2; ``--debug`` shows the traceback.
+Subcommands: ``run`` (analyse a case and write results and the report),
+``check`` (model, modes and every time-step check, no integration), ``compare``
+(several methods and steps on one case), ``verify`` (benchmark problems).
+Bad input or a refused time step is one line on stderr and exit status 2;
+``--debug`` shows the traceback.
 """
 
 from __future__ import annotations
@@ -33,42 +35,95 @@ def _methods_arg(values: list[str] | None) -> list[str] | None:
 
 
 def cmd_run(args: argparse.Namespace) -> int:
-    """Run a case: results.json, histories.csv and a terminal summary."""
+    """Run a case: results.json, histories.csv, report.pdf and a terminal summary."""
     from thist.analysis import run_case
     from thist.case import load_case
+    from thist.report import write_report
     from thist.results import summary_text, write_results
 
     case = load_case(args.case)
     result = run_case(case, methods=_methods_arg(args.method))
     outdir = Path(args.output) if args.output else _default_outdir(args.case)
     files = write_results(result, outdir)
+    files.append(write_report(outdir / "report.pdf", result))
     print(summary_text(result))
     print("\nwrote " + ", ".join(str(f) for f in files))
     return 0
 
 
+def cmd_compare(args: argparse.Namespace) -> int:
+    """Run several methods (and steps) on one case; results.json and report.pdf."""
+    from thist.case import load_case
+    from thist.compare import compare_case, comparison_dict
+    from thist.report import write_report
+    from thist.results import write_results
+    from thist.units import parse_quantity
+
+    case = load_case(args.case)
+    methods = _methods_arg(args.methods)
+    dts = None
+    if args.dt:
+        dts = []
+        for i, text in enumerate(args.dt):
+            value = text if any(c.isalpha() for c in text) else f"{text} s"
+            dts.append(parse_quantity(value, "time", f"--dt[{i}]"))
+            if not dts[-1] > 0:
+                raise InputError(f"must be positive, got {text!r}", f"--dt[{i}]")
+    comp = compare_case(case, methods, dts)
+    outdir = Path(args.output) if args.output else _default_outdir(args.case)
+    first = comp.results[0]
+    files = write_results(first, outdir, {"comparison": comparison_dict(comp)})
+    files.append(write_report(outdir / "report.pdf", first, comp))
+    print(f"thist {__version__}: {case.title}")
+    print(f"{'method':24s} {'dt [s]':>9s} {'roof disp [m]':>14s} {'diff':>9s}  energy err")
+    for r in comp.rows:
+        if r.status == "refused":
+            print(f"{r.label:24s} {r.dt:9.4g}  refused: {r.reason}")
+            continue
+        rel = r.rel_diff.get("roof_displacement")
+        rel_text = "-" if rel is None else f"{100 * rel:+.3f}%"
+        print(
+            f"{r.label:24s} {r.dt:9.4g} {r.peaks['roof_displacement']:14.5g} {rel_text:>9s}  "
+            f"{r.balance_error:.2e}"
+        )
+    print("\n" + cautions.SHORT)
+    print("\nwrote " + ", ".join(str(f) for f in files))
+    return 0
+
+
+def cmd_verify(args: argparse.Namespace) -> int:
+    """Run the benchmark problems; write verification.pdf; exit 1 if any fails."""
+    from thist.report import write_verification_summary
+    from thist.verification import run_problems
+
+    outcomes = run_problems()
+    outdir = Path(args.output) if args.output else Path("reports") / "verification"
+    path = write_verification_summary(outdir / "verification.pdf", outcomes)
+    for o in outcomes:
+        verdict = "pass" if o.passed else "FAIL"
+        print(
+            f"{verdict:4s}  {o.problem.key:36s} error {o.error:.2e}  "
+            f"tolerance {o.problem.tolerance:.0e}"
+        )
+        if o.message:
+            print(f"      {o.message}")
+    failed = sum(not o.passed for o in outcomes)
+    print(f"\n{len(outcomes) - failed} of {len(outcomes)} problems pass; wrote {path}")
+    return 1 if failed else 0
+
+
 def cmd_check(args: argparse.Namespace) -> int:
     """Model summary, modes and every check; exit 1 if a check refuses a method."""
-    from thist.analysis import build_damping
-    from thist.case import load_case, parse_method_entry
-    from thist.checks import check_method
-    from thist.modal import modal
-    from thist.record import sample, summarize
+    from thist.analysis import prepare
+    from thist.case import load_case
+    from thist.record import summarize
 
     case = load_case(args.case)
     s = case.structure
     du = case.display
-    modes = modal(s.M, s.K, s.r)
-    damping = build_damping(case.damping, s, modes)
-    step = case.analysis.dt or case.record.dt
-    ex = sample(case.record, step, case.analysis.duration, case.analysis.allow_coarse_dt)
-    rs = summarize(case.record)
-    names = _methods_arg(args.method)
-    specs = (
-        case.analysis.methods
-        if names is None
-        else [parse_method_entry(m, f"--method {m}", None) for m in names]
-    )
+    pre = prepare(case, _methods_arg(args.method))
+    modes, damping = pre.modes, pre.damping
+    rs = summarize(pre.motion.record)
     print(f"thist {__version__}: {case.title}")
     print(
         f"model: {s.form}, {s.n} levels, total mass {du.show(s.total_mass, 'mass'):.5g} "
@@ -79,6 +134,13 @@ def cmd_check(args: argparse.Namespace) -> int:
         f"duration {rs.duration:g} s, PGA {du.show(rs.pga, 'acceleration'):.4g} "
         f"{du.label('acceleration')}"
     )
+    for step in pre.motion.processing:
+        print(f"processing: {step.text}")
+    if pre.motion.scaling is not None:
+        print(
+            f"scaling: factor {pre.motion.scaling.factor:.4g} to the "
+            f"{pre.motion.scaling.target.describe()}"
+        )
     print("\nmode  period [s]  freq [Hz]  participation  eff. mass [%]  cumulative [%]  damping")
     for j in range(s.n):
         print(
@@ -86,29 +148,19 @@ def cmd_check(args: argparse.Namespace) -> int:
             f"{modes.participation[j]:13.4g}  {100 * modes.effective_mass_ratio[j]:13.2f}  "
             f"{100 * modes.cumulative_ratio[j]:14.2f}  {damping.ratios[j]:7.4f}"
         )
-    refused = False
-    for spec in specs:
-        c = check_method(
-            spec.method,
-            spec.label,
-            modes,
-            damping.ratios,
-            ex.dt,
-            case.record.dt,
-            case.checks.mass_ratio,
-            case.checks.steps_per_period,
-        )
-        refused |= c.refused
-        print(f"\n{spec.label} at dt = {ex.dt:g} s")
+    for spec, c in zip(pre.specs, pre.checks, strict=True):
+        print(f"\n{spec.label} at dt = {c.dt:g} s")
         for chk in c.checks:
             print(f"  [{chk.verdict}] {chk.message}")
     print("\n" + cautions.SHORT)
-    return 1 if refused else 0
+    return 1 if any(c.refused for c in pre.checks) else 0
 
 
 COMMANDS: dict[str, tuple[Handler, str]] = {
-    "run": (cmd_run, "analyse a case; write results.json and histories.csv"),
+    "run": (cmd_run, "analyse a case; write results.json, histories.csv and report.pdf"),
     "check": (cmd_check, "show the model, its modes and every time-step check"),
+    "compare": (cmd_compare, "run several methods and time steps on one case; compare them"),
+    "verify": (cmd_verify, "run the benchmark problems; write a verification summary"),
 }
 
 
@@ -138,9 +190,31 @@ def build_parser() -> argparse.ArgumentParser:
                 metavar="NAME",
                 help="method(s) to use instead of the case's (repeat or comma-separate)",
             )
-        if name == "run":
+        if name == "compare":
+            sp.add_argument("case", help="case file (TOML)")
+            sp.add_argument(
+                "--methods",
+                action="append",
+                required=True,
+                metavar="A,B,C",
+                help="methods to compare (comma-separated; exact is added for linear models)",
+            )
+            sp.add_argument(
+                "--dt",
+                nargs="+",
+                metavar="VALUE",
+                help='analysis step(s), e.g. 0.005 or "5 ms" (default: the case\'s)',
+            )
+        if name in ("run", "compare"):
             sp.add_argument(
                 "-o", "--output", metavar="DIR", help="output folder (default reports/<case name>/)"
+            )
+        if name == "verify":
+            sp.add_argument(
+                "-o",
+                "--output",
+                metavar="DIR",
+                help="output folder (default reports/verification/)",
             )
     return p
 

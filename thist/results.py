@@ -208,14 +208,18 @@ def histories_csv(result: CaseResult) -> str:
     return buf.getvalue()
 
 
-def write_results(result: CaseResult, outdir: str | Path) -> list[Path]:
+def write_results(result: CaseResult, outdir: str | Path, extra: dict | None = None) -> list[Path]:
     """Write ``results.json`` and ``histories.csv`` into ``outdir`` atomically.
 
     Both texts are built before either file is touched, so a failure leaves the
-    previous results in place.
+    previous results in place. ``extra`` adds top-level keys to results.json
+    (e.g. ``{"comparison": ...}`` from ``thist compare``).
     """
     outdir = Path(outdir)
-    payload = json.dumps(result_dict(result), indent=1, allow_nan=False) + "\n"
+    data = result_dict(result)
+    if extra:
+        data.update(_clean(extra))
+    payload = json.dumps(data, indent=1, allow_nan=False) + "\n"
     csv = histories_csv(result)
     files = [outdir / "results.json", outdir / "histories.csv"]
     write_text(files[0], payload)
