@@ -312,8 +312,20 @@ def record_section(ctx: Ctx) -> list[Flowable]:
     ]
     if rec.header:
         pairs.append(("File header", "<br/>".join(esc(h) for h in rec.header[:8])))
+    motion = ctx.result.motion
+    if motion is not None:
+        for step in motion.processing:
+            pairs.append(("Processing", esc(step.text)))
+        if motion.scaling is not None:
+            pairs.append(
+                (
+                    "Scaling",
+                    f"factor {fmt(motion.scaling.factor)} to the "
+                    f"{esc(motion.scaling.target.describe())}",
+                )
+            )
     for note in ex.notes:
-        pairs.append(("Processing", esc(note)))
+        pairs.append(("Sampling", esc(note)))
     out = heading(ctx, 5, "Record")
     out.append(key_values(ctx, pairs))
     out.append(
