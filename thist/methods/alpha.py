@@ -56,22 +56,36 @@ class _AlphaFamily(Method):
         return rhs, u_pred, v_pred
 
     def step_matrices(self, m, c, k, dt):
-        _, _, beta, gamma = self.coefficients
-        M, C, K = (np.array([[x]], dtype=float) for x in (m, c, k))
-        keff = self._effective(M, C, K, dt)[0, 0]
-        A = np.zeros((3, 3))
+        A, B0, B1 = self.step_matrices_many(np.array([m]), np.array([c]), np.array([k]), dt)
+        return A[0], B0[0], B1[0]
+
+    def step_matrices_many(self, m, c, k, dt):
+        # The one-step update of integrate() written out for one DOF, state (u, v, a):
+        # the columns of A are its response to unit states, B0/B1 to unit loads.
+        am, af, beta, gamma = self.coefficients
+        m, c, k = (np.asarray(x, dtype=float) for x in (m, c, k))
+        keff = (1.0 - am) * m + (1.0 - af) * (gamma * dt * c + beta * dt * dt * k)
+        bdt2, gdt = beta * dt * dt, gamma * dt
+        # (u_pred, v_pred) of each unit state, and the right-hand side it produces.
+        u_pred = (1.0, dt, dt * dt * (0.5 - beta))
+        v_pred = (0.0, 1.0, dt * (1.0 - gamma))
+        own = ((1.0, 0.0, 0.0), (0.0, 1.0, 0.0), (0.0, 0.0, 1.0))
+        A = np.empty((m.size, 3, 3))
         for j in range(3):
-            x = np.zeros(3)
-            x[j] = 1.0
-            rhs, up, vp = self._rhs(M, C, K, dt, x[:1], x[1:2], x[2:], 0.0, 0.0)
-            a1 = rhs[0] / keff
-            A[:, j] = [up[0] + beta * dt * dt * a1, vp[0] + gamma * dt * a1, a1]
-        am, af, _, _ = self.coefficients
-        B = []
-        for f0, f1 in ((1.0, 0.0), (0.0, 1.0)):
-            a1 = ((1.0 - af) * f1 + af * f0) / keff
-            B.append(np.array([beta * dt * dt * a1, gamma * dt * a1, a1]))
-        return A, B[0], B[1]
+            uj, vj, aj = own[j]
+            rhs = (
+                -am * m * aj
+                - c * ((1.0 - af) * v_pred[j] + af * vj)
+                - k * ((1.0 - af) * u_pred[j] + af * uj)
+            )
+            a1 = rhs / keff
+            A[:, 0, j] = u_pred[j] + bdt2 * a1
+            A[:, 1, j] = v_pred[j] + gdt * a1
+            A[:, 2, j] = a1
+        unit = np.stack([np.full(m.size, bdt2), np.full(m.size, gdt), np.ones(m.size)], axis=1)
+        B0 = unit * (af / keff)[:, None]
+        B1 = unit * ((1.0 - af) / keff)[:, None]
+        return A, B0, B1
 
     def initial_state(self, m, c, k, dt):
         # u0, v0 given; a0 from equilibrium at t = 0.

@@ -113,6 +113,19 @@ class Method(ABC):
     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """One-DOF recurrence ``x1 = A x0 + B0 f0 + B1 f1``; returns (A, B0, B1)."""
 
+    def step_matrices_many(
+        self, m: np.ndarray, c: np.ndarray, k: np.ndarray, dt: float
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """:meth:`step_matrices` for many DOFs at once: shapes (n, s, s), (n, s), (n, s).
+
+        The default loops; methods with closed forms override it for speed.
+        """
+        parts = [
+            self.step_matrices(float(mi), float(ci), float(ki), dt)
+            for mi, ci, ki in zip(m, c, k, strict=True)
+        ]
+        return tuple(np.stack(x) for x in zip(*parts, strict=True))  # type: ignore[return-value]
+
     @abstractmethod
     def initial_state(self, m: float, c: float, k: float, dt: float) -> np.ndarray:
         """Map from (u0, v0, f0) to the initial state x0 of :meth:`step_matrices`.

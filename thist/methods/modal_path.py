@@ -14,7 +14,7 @@ import numpy as np
 
 from thist.errors import StabilityError
 from thist.methods.base import Method, Solution
-from thist.methods.recurrence import run_recurrence
+from thist.methods.recurrence import filter_states
 from thist.modal import Modes
 
 
@@ -53,24 +53,31 @@ def integrate_modal(
     """
     phi = modes.shapes
     n_steps, n = p.shape
-    f = p @ phi  # modal loads, N (per unit modal mass)
-    f_ext = np.vstack([f, f[-1:]])  # one sample past the end, for explicit methods
+    # Modal loads per unit modal mass, one contiguous row per mode, with one sample
+    # past the end (explicit methods need the state after the last load).
+    f_ext = np.empty((n, n_steps + 1))
+    np.matmul(phi.T, p.T, out=f_ext[:, :n_steps])
+    f_ext[:, n_steps] = f_ext[:, n_steps - 1]
     q0 = np.zeros(n) if u0 is None else phi.T @ M @ u0
     qd0 = np.zeros(n) if v0 is None else phi.T @ M @ v0
-    q = np.empty((n_steps, n))
-    qd = np.empty((n_steps, n))
-    qdd = np.empty((n_steps, n))
+    w = np.asarray(modes.omegas, dtype=float)
+    c, k = 2.0 * np.asarray(zetas, dtype=float) * w, w * w
+    A, B0, B1 = method.step_matrices_many(np.ones(n), c, k, dt)
+    x0 = np.stack(
+        [
+            method.initial_state(1.0, c[j], k[j], dt) @ np.array([q0[j], qd0[j], f_ext[j, 0]])
+            for j in range(n)
+        ]
+    )
+    X = filter_states(A, B0, B1, x0, f_ext)
+    q = np.empty((n, n_steps))
+    qd = np.empty((n, n_steps))
+    qdd = np.empty((n, n_steps))
     for j in range(n):
-        w, z = float(modes.omegas[j]), float(zetas[j])
-        c, k = 2.0 * z * w, w * w
-        A, B0, B1 = method.step_matrices(1.0, c, k, dt)
-        x0 = method.initial_state(1.0, c, k, dt) @ np.array([q0[j], qd0[j], f[0, j]])
-        g = np.outer(f_ext[:-1, j], B0) + np.outer(f_ext[1:, j], B1)
-        X = run_recurrence(A, g, x0)
-        q[:, j], qd[:, j], qdd[:, j] = method.modal_outputs(X, f_ext[:, j], 1.0, c, k, dt)
+        q[j], qd[j], qdd[j] = method.modal_outputs(X[j].T, f_ext[j], 1.0, c[j], k[j], dt)
     if not (np.all(np.isfinite(q)) and np.all(np.isfinite(qd))):
         raise StabilityError(
             f"{method.name}: the modal solution became non-finite; the run "
             "was stopped (reduce the time step)"
         )
-    return Solution(q @ phi.T, qd @ phi.T, qdd @ phi.T)
+    return Solution(q.T @ phi.T, qd.T @ phi.T, qdd.T @ phi.T)

@@ -36,14 +36,110 @@ def run_recurrence(Phi: np.ndarray, g: np.ndarray, z0: np.ndarray) -> np.ndarray
     if np.linalg.cond(V) < MAX_CONDITION:
         Vinv = np.linalg.inv(V)
         y0 = Vinv @ z0
-        h = g @ Vinv.T
+        # Real and imaginary parts as real products: numpy's mixed real-complex
+        # matrix product is an order of magnitude slower.
+        h = g @ Vinv.T.real + 1j * (g @ Vinv.T.imag)
         y = np.empty((g.shape[0] + 1, z0.size), dtype=complex)
         y[0] = y0
         for j in range(z0.size):  # one C-speed filter per eigen-coordinate
             y[1:, j], _ = lfilter([1.0], [1.0, -lam[j]], h[:, j], zi=[lam[j] * y0[j]])
-        return (y @ V.T).real
+        return y.real @ V.T.real - y.imag @ V.T.imag
     z = np.empty((g.shape[0] + 1, z0.size))
     z[0] = z0
     for k in range(g.shape[0]):
         z[k + 1] = Phi @ z[k] + g[k]
     return z
+
+
+def characteristic_polynomials(A: np.ndarray) -> np.ndarray:
+    """Coefficients [1, d1, …, ds] of det(zI − A) for a stack of matrices (n, s, s).
+
+    Closed forms for s ≤ 3 (trace, principal minors, determinant); ``np.poly``
+    otherwise.
+    """
+    n, s, _ = A.shape
+    tr = np.trace(A, axis1=1, axis2=2)
+    if s == 1:
+        return np.stack([np.ones(n), -tr], axis=1)
+    det = np.linalg.det(A)
+    if s == 2:
+        return np.stack([np.ones(n), -tr, det], axis=1)
+    if s == 3:
+        minors = 0.5 * (tr**2 - np.trace(A @ A, axis1=1, axis2=2))
+        return np.stack([np.ones(n), -tr, minors, -det], axis=1)
+    return np.stack([np.real(np.poly(a)) for a in A])
+
+
+def transfer_numerators(A: np.ndarray, B: np.ndarray, den: np.ndarray) -> np.ndarray:
+    """Numerators of (zI − A)⁻¹ B, in powers of z⁻¹, from Markov parameters, for a stack.
+
+    With h_m = A^(m−1) B (m ≥ 1) and ``den`` = [1, d1, …, ds] the characteristic
+    polynomial of A, the numerator coefficients are n_j = Σ_{i=1..j} d_(j−i) h_i,
+    n_0 = 0 (the strictly proper part of a state-space system; e.g. Oppenheim &
+    Schafer, *Discrete-Time Signal Processing*, 3rd ed., 2010, §6.5).
+
+    Parameters
+    ----------
+    A : ndarray, shape (n, s, s)
+    B : ndarray, shape (n, s)
+    den : ndarray, shape (n, s + 1)
+
+    Returns
+    -------
+    ndarray, shape (n, s, s + 1)
+        One numerator per state component.
+    """
+    n, s, _ = A.shape
+    h = np.empty((s + 1, n, s))
+    h[0] = 0.0
+    h[1] = B
+    for m in range(2, s + 1):
+        h[m] = np.einsum("nij,nj->ni", A, h[m - 1])
+    num = np.zeros((n, s, s + 1))
+    for j in range(1, s + 1):
+        for i in range(1, j + 1):
+            num[:, :, j] += den[:, j - i, None] * h[i]
+    return num
+
+
+def filter_states(
+    A: np.ndarray, B0: np.ndarray, B1: np.ndarray, x0: np.ndarray, f: np.ndarray
+) -> np.ndarray:
+    """States of ``x[k+1] = A x[k] + B0 f[k] + B1 f[k+1]``, one scalar load per system.
+
+    For a stack of n independent systems (one per mode). With ``y = x − B1 f`` the
+    recurrence is ``y[k+1] = A y[k] + B f[k]``, ``B = A B1 + B0``. Each state
+    component is a rational filter of ``f`` whose denominator is the characteristic
+    polynomial of ``A``; the free response from ``y[0]`` is folded into the filter
+    input as the impulse response of ``(zI − A)⁻¹ y[0]``. One ``lfilter`` call per
+    system runs all its components at C speed.
+
+    Parameters
+    ----------
+    A : ndarray, shape (n, s, s)
+    B0, B1 : ndarray, shape (n, s)
+    x0 : ndarray, shape (n, s)
+        Initial states.
+    f : ndarray, shape (n, N)
+        Load of each system at every step.
+
+    Returns
+    -------
+    ndarray, shape (n, s, N)
+        x[0] … x[N − 1] of each system, component by component.
+    """
+    n, s, _ = A.shape
+    N = f.shape[1]
+    den = characteristic_polynomials(A)
+    num_f = transfer_numerators(A, np.einsum("nij,nj->ni", A, B1) + B0, den)
+    num_0 = transfer_numerators(A, x0 - B1 * f[:, :1], den)
+    # FIR part: W[:, k, i] = sum_j num_f[:, k, j] f[:, i - j].
+    W = num_f[:, :, :1] * f[:, None, :]
+    for j in range(1, s + 1):
+        W[:, :, j:] += num_f[:, :, j, None] * f[:, None, : N - j]
+    m = min(s, N)
+    W[:, :, :m] += num_0[:, :, 1 : m + 1]
+    for i in range(n):
+        W[i] = lfilter([1.0], den[i], W[i], axis=1)
+    W += B1[:, :, None] * f[:, None, :]
+    return W
