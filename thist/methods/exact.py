@@ -32,7 +32,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg as sla
-from scipy.signal import lfilter
 
 from thist.methods.base import (
     Method,
@@ -41,9 +40,9 @@ from thist.methods.base import (
     check_finite_growth,
     growth_bound,
 )
+from thist.methods.recurrence import run_recurrence
 
 #: Largest condition number of Φ's eigenvectors for the diagonalised (filter) path.
-_MAX_CONDITION = 1e8
 
 
 def augmented_generator(M: np.ndarray, C: np.ndarray, K: np.ndarray, dt: float) -> np.ndarray:
@@ -165,30 +164,10 @@ class Exact(Method):
         z0 = np.concatenate([u0, v0])
         # Load term of each step: g[k] = B0 p[k] + B1 p[k+1], k = 0 .. N-2.
         g = p[:-1] @ B0.T + p[1:] @ B1.T
-        z = _run_recurrence(Phi, g, z0)
+        z = run_recurrence(Phi, g, z0)
         u, v = z[:, :n], z[:, n:]
         omega_max = math.sqrt(max(float(np.max(sla.eigvalsh(K, M))), 0.0))
         bound = growth_bound(M, K, p, u0, v0, omega_max, n_steps * dt)
         check_finite_growth(u, bound, (n_steps - 1) * dt, self.name)
         a = np.linalg.solve(M, (p - v @ C.T - u @ K.T).T).T
         return Solution(np.ascontiguousarray(u), np.ascontiguousarray(v), a)
-
-
-def _run_recurrence(Phi: np.ndarray, g: np.ndarray, z0: np.ndarray) -> np.ndarray:
-    """All states of ``z[k+1] = Phi z[k] + g[k]`` from z0; shape (len(g) + 1, len(z0))."""
-    lam, V = np.linalg.eig(Phi)
-    if np.linalg.cond(V) < _MAX_CONDITION:
-        # Eigen-coordinates y = V⁻¹ z: y_j[k+1] = λ_j y_j[k] + h_j[k], one filter each.
-        Vinv = np.linalg.inv(V)
-        y0 = Vinv @ z0
-        h = g @ Vinv.T  # (N-1, 2n)
-        y = np.empty((g.shape[0] + 1, z0.size), dtype=complex)
-        y[0] = y0
-        for j in range(z0.size):  # one C-speed filter per eigen-coordinate
-            y[1:, j], _ = lfilter([1.0], [1.0, -lam[j]], h[:, j], zi=[lam[j] * y0[j]])
-        return (y @ V.T).real
-    z = np.empty((g.shape[0] + 1, z0.size))
-    z[0] = z0
-    for k in range(g.shape[0]):
-        z[k + 1] = Phi @ z[k] + g[k]
-    return z
