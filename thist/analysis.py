@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import time as _time
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -24,6 +25,11 @@ from thist.energy import EnergyBalance, energy_balance
 from thist.errors import InputError
 from thist.methods import get_method
 from thist.methods.base import Method, Solution
+from thist.methods.inelastic import (
+    ConvergenceStats,
+    StoryDemands,
+    integrate_inelastic,
+)
 from thist.methods.modal_path import integrate_modal
 from thist.modal import Modes, modal
 from thist.motion import GroundMotion, prepare_motion
@@ -51,7 +57,9 @@ class History:
 class MethodRun:
     """One method's run of a case: its checks, response, energy balance and run time.
 
-    ``response`` and ``energy`` are None when the checks refused the run.
+    ``response`` and ``energy`` are None when the checks refused the run;
+    ``story`` (ductility, residual drift, yield excursions, hysteretic energy per
+    story) and ``convergence`` are set for inelastic runs only.
     """
 
     label: str
@@ -61,6 +69,8 @@ class MethodRun:
     elapsed: float
     path: str = "direct"
     energy: EnergyBalance | None = None
+    story: StoryDemands | None = None
+    convergence: ConvergenceStats | None = None
 
 
 @dataclass(frozen=True)
@@ -135,7 +145,7 @@ def integrate_linear(
 
 
 def _run_method(
-    structure: Structure,
+    case: Case,
     damping: Damping,
     modes: Modes,
     ex: Excitation,
@@ -145,17 +155,85 @@ def _run_method(
 ) -> MethodRun:
     if checks.refused:
         return MethodRun(spec_label, method, checks, None, 0.0)
-    C = damping.C
+    structure = case.structure
+    if not structure.is_linear:
+        return _run_inelastic(case, damping, ex, spec_label, method, checks)
     p = -np.outer(ex.ag, structure.M @ structure.r)
     start = _time.perf_counter()
     sol, path = integrate_linear(method, structure, damping, modes, p, ex.dt)
     elapsed = _time.perf_counter() - start
     resp = compute_response(structure, ex.time, ex.ag, sol.u, sol.v, sol.a)
-    rule = "exact" if method.name == "exact" else "trapezoid"
     energy = energy_balance(
-        structure.M, C, structure.K, structure.r, ex.time, ex.ag, sol.u, sol.v, rule=rule
+        structure.M,
+        damping.C,
+        structure.K,
+        structure.r,
+        ex.time,
+        ex.ag,
+        sol.u,
+        sol.v,
+        rule=method.energy_rule,
     )
     return MethodRun(spec_label, method, checks, resp, elapsed, path=path, energy=energy)
+
+
+def _run_inelastic(
+    case: Case,
+    damping: Damping,
+    ex: Excitation,
+    spec_label: str,
+    method: Method,
+    checks: MethodChecks,
+) -> MethodRun:
+    structure = case.structure
+    settings = case.analysis.inelastic
+    start = _time.perf_counter()
+    sol = integrate_inelastic(
+        structure.level_masses,
+        structure.springs,
+        ex.ag,
+        ex.dt,
+        method,
+        rayleigh=(damping.alpha_mass, damping.beta_stiffness),
+        damping=settings.damping,
+        options=settings.options,
+    )
+    elapsed = _time.perf_counter() - start
+    resp = compute_response(
+        structure, ex.time, ex.ag, sol.u, sol.v, sol.a, restoring_force=sol.restoring_force
+    )
+    return MethodRun(
+        spec_label,
+        method,
+        checks,
+        resp,
+        elapsed,
+        path="inelastic",
+        energy=sol.energy,
+        story=sol.story,
+        convergence=sol.convergence,
+    )
+
+
+def check_inelastic_case(case: Case, specs: tuple[MethodSpec, ...]) -> None:
+    """Refuse what inelastic runs cannot do: the exact method, and damping that is not
+    Rayleigh, stiffness-proportional or none (the stiffness part follows the springs)."""
+    if case.structure.is_linear:
+        return
+    for i, s in enumerate(specs):
+        if s.method.linear_only:
+            raise InputError(
+                f"method {s.name!r} is for linear models only; the model has yielding stories",
+                f"analysis.methods[{i}]",
+                Path(case.path).name,
+            )
+    if case.damping.model not in ("rayleigh", "stiffness", "none"):
+        raise InputError(
+            f"{case.damping.model} damping cannot follow yielding springs; use rayleigh, "
+            "stiffness or none",
+            "damping.model",
+            Path(case.path).name,
+        )
 
 
 @dataclass(frozen=True)
@@ -187,6 +265,7 @@ def prepare(case: Case, methods: list[str] | None = None, dt: float | None = Non
         if methods is None
         else tuple(parse_method_entry(m, f"--method {m}", None) for m in methods)
     )
+    check_inelastic_case(case, specs)
     modes = modal(structure.M, structure.K, structure.r)
     damping = build_damping(case.damping, structure, modes)
     motion = prepare_motion(case.motion, float(modes.periods[0]))
@@ -240,7 +319,7 @@ def run_case(
         for c in pre.checks:
             c.raise_if_refused()
     runs = tuple(
-        _run_method(case.structure, pre.damping, pre.modes, pre.excitation, s.label, s.method, c)
+        _run_method(case, pre.damping, pre.modes, pre.excitation, s.label, s.method, c)
         for s, c in zip(pre.specs, pre.checks, strict=True)
     )
     return CaseResult(

@@ -19,8 +19,10 @@ import numpy as np
 from thist.errors import InputError
 from thist.methods import get_method
 from thist.methods.base import Method
+from thist.methods.inelastic import DAMPING_CHOICES, SolverOptions
 from thist.record import Record, read_record
 from thist.scaling import TargetSpectrum, target_from_table, target_two_parameter
+from thist.springs import LAWS, story_springs
 from thist.structure import Structure, general_model, shear_chain
 from thist.units import US_CUSTOMARY, DisplayUnits, parse_quantity, parse_unit
 
@@ -199,6 +201,19 @@ class MethodSpec:
 
 
 @dataclass(frozen=True)
+class InelasticSpec:
+    """Settings of inelastic runs: damping with yielding springs and the solver.
+
+    ``damping`` is ``"initial"`` (Rayleigh stiffness part on the initial stiffness)
+    or ``"tangent"`` (on the tangent stiffness); ``options`` the Newton–Raphson
+    settings of the implicit methods.
+    """
+
+    damping: str = "initial"
+    options: SolverOptions = field(default_factory=SolverOptions)
+
+
+@dataclass(frozen=True)
 class AnalysisSpec:
     """Analysis settings, SI.
 
@@ -209,6 +224,7 @@ class AnalysisSpec:
     dt: float | None
     duration: float | None
     allow_coarse_dt: bool
+    inelastic: InelasticSpec = field(default_factory=lambda: InelasticSpec())
 
 
 @dataclass(frozen=True)
@@ -348,6 +364,7 @@ def _structure(t: _Table, fname: str) -> Structure:
             if not stories:
                 raise t.error("stories", "needs at least one story")
             m, k, h, labels = [], [], [], []
+            laws, fy, dy, alpha = [], [], [], []
             for i, item in enumerate(stories):
                 s = _Table(item, f"{t.where('stories')}[{i}]", fname)
                 m.append(s.quantity("mass", "mass"))
@@ -357,9 +374,31 @@ def _structure(t: _Table, fname: str) -> Structure:
                 for key, value in (("mass", m[-1]), ("stiffness", k[-1]), ("height", h[-1])):
                     if not value > 0:
                         raise s.error(key, f"must be positive, got {value:g}")
+                laws.append(s.string("law", "elastic", LAWS))
+                fy.append(s.quantity("yield_force", "force", math.nan))
+                dy.append(s.quantity("yield_drift", "length", math.nan))
+                alpha.append(s.ratio("post_yield_ratio", 0.0, hi=0.999))
+                if laws[-1] == "elastic":
+                    for key in ("yield_force", "yield_drift", "post_yield_ratio"):
+                        if s.has(key):
+                            raise s.error(key, "given for an elastic story; set law as well")
+                elif math.isnan(fy[-1]) == math.isnan(dy[-1]):
+                    raise s.error(
+                        None, f"a {laws[-1]} story needs yield_force or yield_drift (one of them)"
+                    )
                 s.finish()
             t.finish()
-            return shear_chain(m, k, h, tuple(labels))
+            springs = None
+            if any(law != "elastic" for law in laws):
+                try:
+                    springs = story_springs(laws, k, fy, dy, alpha)
+                except InputError as exc:
+                    key, _, rest = (exc.field or "").partition("[")
+                    idx = rest.split("]")[0]
+                    raise InputError(
+                        exc.problem, f"{t.where('stories')}[{idx}].{key}", fname
+                    ) from None
+            return shear_chain(m, k, h, tuple(labels), springs)
         M = _matrix(t, "mass", "mass")
         K = _matrix(t, "stiffness", "force/length")
         r = t.raw("influence", None)
@@ -657,8 +696,27 @@ def _analysis(t: _Table) -> AnalysisSpec:
     if duration is not None and not duration > 0:
         raise t.error("duration", "must be positive")
     allow = t.boolean("allow_coarse_dt", False)
+    inelastic = _inelastic(t.table("inelastic", {}))
     t.finish()
-    return AnalysisSpec(methods, dt, duration, allow)
+    return AnalysisSpec(methods, dt, duration, allow, inelastic)
+
+
+def _inelastic(t: _Table) -> InelasticSpec:
+    damping = t.string("damping", "initial", DAMPING_CHOICES)
+    defaults = SolverOptions()
+    options = SolverOptions(
+        iteration=t.string("iteration", defaults.iteration, ("newton", "modified-newton")),
+        force_tolerance=t.number("force_tolerance", defaults.force_tolerance),
+        energy_tolerance=t.number("energy_tolerance", defaults.energy_tolerance),
+        max_iterations=t.integer("max_iterations", defaults.max_iterations, lo=1),
+        max_halvings=t.integer("max_halvings", defaults.max_halvings, lo=0),
+    )
+    try:
+        options.check()
+    except InputError as exc:
+        raise InputError(exc.problem, t.where(exc.field or ""), t.file) from None
+    t.finish()
+    return InelasticSpec(damping, options)
 
 
 def _checks(t: _Table) -> CheckSpec:

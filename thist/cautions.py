@@ -32,3 +32,10 @@ NOT_INCLUDED = (
     "vertical ground motion",
     "foundation flexibility and uplift",
 )
+
+#: Added wherever inelastic results are shown.
+INELASTIC = (
+    "Inelastic results are sensitive to the story spring laws and their parameters "
+    "(yield force, post-yield stiffness, hysteresis rules) and to the damping model "
+    "with yielding springs; treat ductility and residual drift as indicative."
+)

@@ -19,7 +19,9 @@ import numpy as np
 from thist import __version__, cautions
 from thist.analysis import CaseResult, MethodRun
 from thist.fileio import write_text
+from thist.motion import GroundMotion
 from thist.response import QUANTITIES
+from thist.units import DisplayUnits
 
 
 def _clean(x: Any) -> Any:
@@ -98,7 +100,57 @@ def _run_dict(run: MethodRun) -> dict:
         }
     if run.energy is not None:
         out["energy"] = {**run.energy.final(), "unit": "J"}
+    if run.story is not None:
+        out["inelastic"] = {
+            "story": {k: v for k, v in run.story.__dict__.items()},
+            "convergence": dict(run.convergence.__dict__) if run.convergence else None,
+            "units": "drifts and deformations m, energies J, ductility and counts plain",
+        }
     return out
+
+
+def motion_dict(motion: GroundMotion) -> dict:
+    """The analysed ground motion (SI): processing in order, scaling, intensity, 5 % spectrum."""
+    sc, im, sp = motion.scaling, motion.intensity, motion.spectrum
+    scaling = None
+    if sc is not None:
+        tgt = sc.target
+        scaling = {
+            "target": {
+                "kind": tgt.kind,
+                "description": tgt.describe(),
+                "periods": tgt.periods,
+                "psa": tgt.psa,
+                "s_short": tgt.s_short,
+                "s_one": tgt.s_one,
+                "t_long": tgt.t_long,
+            },
+            "basis": tgt.basis,
+            "factor": sc.factor,
+            "unbounded_factor": sc.unbounded_factor,
+            "bounds": list(sc.bounds),
+            "bound_hit": sc.bound_hit,
+            "warning": sc.warning,
+            "period_range": list(sc.period_range),
+            "matching_periods": sc.matching_periods,
+            "misfit": sc.misfit,
+            "misfit_measure": "RMS of ln(PSA_scaled / PSA_target) over the matching periods",
+            "damping": sc.before.damping,
+        }
+    return {
+        "raw_record": {"npts": motion.raw.npts, "dt": motion.raw.dt},
+        "record": {"npts": motion.record.npts, "dt": motion.record.dt},
+        "processing": [step.to_dict() for step in motion.processing],
+        "scaling": scaling,
+        "intensity": im.summary(),
+        "spectrum": {
+            "damping": sp.damping,
+            "periods": sp.periods,
+            "psa": sp.psa,
+            "sd": sp.sd,
+            "pga": sp.pga,
+        },
+    }
 
 
 def result_dict(result: CaseResult) -> dict:
@@ -133,6 +185,7 @@ def result_dict(result: CaseResult) -> dict:
                 "record_dt": result.excitation.record_dt,
                 "notes": list(result.excitation.notes),
             },
+            "motion": None if result.motion is None else motion_dict(result.motion),
             "model": {
                 "form": s.form,
                 "levels": s.n,
@@ -241,6 +294,39 @@ def _table(headers: list[str], rows: list[list[str]]) -> str:
     return "\n".join([line(headers), line(["-" * w for w in widths]), *map(line, rows)])
 
 
+def _inelastic_table(run: MethodRun, du: DisplayUnits) -> str:
+    st, SL = run.story, du.label("small_length")
+    rows = [
+        [
+            f"S{i + 1}",
+            st.law[i],
+            _fmt(st.ductility[i], 3),
+            _fmt(du.show(st.residual_drift[i], "small_length")),
+            str(int(st.yield_excursions[i])),
+            "-" if st.law[i] == "elastic" else _fmt(st.hysteretic_energy[i] / 1e3),
+        ]
+        for i in range(len(st.law))
+    ]
+    head = [
+        "story",
+        "law",
+        "ductility",
+        f"residual drift [{SL}]",
+        "yield excursions",
+        "hysteretic energy [kJ]",
+    ]
+    conv = run.convergence
+    tail = (
+        ""
+        if conv is None
+        else (
+            f"\n  Newton iterations {conv.iterations} in {conv.steps} steps, "
+            f"{conv.subdivided_steps} steps subdivided"
+        )
+    )
+    return _table(head, rows) + tail
+
+
 def summary_text(result: CaseResult) -> str:
     """A short summary of a run in the case's display units, ending with the caution."""
     case, du = result.case, result.case.display
@@ -315,5 +401,11 @@ def summary_text(result: CaseResult) -> str:
                 f"  energy balance error {run.energy.balance_error:.2e} of the peak input "
                 f"energy {run.energy.peak_input / 1e3:.4g} kJ"
             )
-    out += ["", cautions.SHORT]
+        if run.story is not None:
+            out.append(_inelastic_table(run, du))
+    out += [
+        "",
+        cautions.SHORT,
+        cautions.INELASTIC if any(r.story is not None for r in result.runs) else "",
+    ]
     return "\n".join(out)

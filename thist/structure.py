@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from thist.errors import InputError
+from thist.springs import SpringParameters
 from thist.units import STANDARD_GRAVITY
 
 
@@ -35,6 +36,8 @@ class Structure:
         ``"chain"`` or ``"matrices"``.
     labels : tuple of str
         A name for each level (e.g. ``"L1"`` … ``"Roof"``).
+    springs : SpringParameters or None
+        Story force–deformation laws of a shear chain (None: linear, K throughout).
     """
 
     M: np.ndarray
@@ -44,6 +47,12 @@ class Structure:
     story_stiffness: np.ndarray | None
     form: str
     labels: tuple[str, ...] = field(default=())
+    springs: SpringParameters | None = None
+
+    @property
+    def is_linear(self) -> bool:
+        """True unless some story spring can yield."""
+        return self.springs is None or all(law == "elastic" for law in self.springs.law)
 
     @property
     def n(self) -> int:
@@ -99,6 +108,7 @@ def shear_chain(
     stiffnesses: np.ndarray,
     heights: np.ndarray,
     labels: tuple[str, ...] | None = None,
+    springs: SpringParameters | None = None,
 ) -> Structure:
     """Assemble a shear chain from story data listed bottom to top.
 
@@ -112,6 +122,9 @@ def shear_chain(
         Story height, m.
     labels : tuple of str, optional
         Level names; default ``L1`` … ``Ln``.
+    springs : SpringParameters, optional
+        Story force–deformation laws; their initial stiffness must equal
+        ``stiffnesses``. None means linear springs.
     """
     m = np.asarray(masses, dtype=float)
     k = np.asarray(stiffnesses, dtype=float)
@@ -126,7 +139,13 @@ def shear_chain(
                 f"stories[{bad[0]}].{name}",
             )
     labels = labels or tuple(f"L{i + 1}" for i in range(m.size))
-    return Structure(np.diag(m), chain_stiffness(k), np.ones(m.size), h, k, "chain", labels)
+    if springs is not None and not np.array_equal(springs.stiffness, k):
+        raise InputError(
+            "the spring laws' initial stiffness must equal the story stiffness", "stories"
+        )
+    return Structure(
+        np.diag(m), chain_stiffness(k), np.ones(m.size), h, k, "chain", labels, springs
+    )
 
 
 def general_model(

@@ -95,6 +95,11 @@ class Method(ABC):
     source: str = ""
     order: int = 2
     explicit: bool = False
+    #: Quadrature of the energy balance consistent with the method's step
+    #: ("trapezoid", or "exact" for a method exact for piecewise-linear loads).
+    energy_rule: str = "trapezoid"
+    #: True for methods that exist for linear models only (no inelastic form).
+    linear_only: bool = False
 
     def check_parameters(self) -> None:  # noqa: B027 - optional hook
         """Raise InputError if a parameter is outside its admissible range."""

@@ -108,6 +108,8 @@ class Exact(Method):
     """
 
     name: str = "exact"
+    energy_rule = "exact"
+    linear_only = True
     source = (
         "state-transition matrix with first-order hold (Van Loan 1978, IEEE Trans. Autom. "
         "Control 23(3)); SDOF form: Nigam & Jennings (1969), Bull. Seismol. Soc. Am. 59(2)"
