@@ -106,3 +106,20 @@ def test_results_json_carries_the_inelastic_demands(case_dir):
 def test_bad_spring_input_names_the_story_and_field(case_dir, text, message):
     with pytest.raises(InputError, match=message):
         thist.run_case(load(case_dir, text))
+
+
+def test_report_shows_the_inelastic_demands_and_the_caution(case_dir):
+    from pypdf import PdfReader
+
+    load(case_dir, bilinear_case("300 kN"))
+    out = case_dir / "out"
+    assert main(["run", str(case_dir / "case.toml"), "-o", str(out)]) == 0
+    text = " ".join(p.extract_text() for p in PdfReader(out / "report.pdf").pages)
+    text = " ".join(text.split())
+    assert "Inelastic story demands" in text
+    assert "sensitive to the story spring laws" in text
+    assert "Charney 2008" in text
+    data = json.loads((out / "results.json").read_text())
+    from thist.report.styles import fmt
+
+    assert fmt(data["methods"][0]["inelastic"]["story"]["ductility"][0], 3) in text

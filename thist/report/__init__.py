@@ -18,6 +18,7 @@ from thist.analysis import CaseResult
 from thist.compare import Comparison
 from thist.report import sections as S
 from thist.report.document import build_pdf, write_pdf
+from thist.report.inelastic import inelastic_section
 from thist.report.styles import esc, fmt, styles
 from thist.verification import Outcome, run_problems
 
@@ -39,6 +40,7 @@ def report_story(
     story += S.record_section(ctx)
     story += S.checks_section(ctx)
     story += S.results_section(ctx)
+    story += inelastic_section(ctx)
     story += S.figures_section(ctx)
     if comparison is not None:
         story += S.comparison_section(ctx)
