@@ -14,6 +14,18 @@ from pathlib import Path
 from typing import IO
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+def _publish(tmp: str, path: Path) -> None:
+    """Give the temporary file ordinary permissions (mkstemp makes it 0600), then rename."""
+    os.chmod(tmp, 0o666 & ~_umask())
+    os.replace(tmp, path)
+
+
 @contextlib.contextmanager
 def atomic_open(
     path: str | Path, mode: str = "w", encoding: str | None = "utf-8", newline: str | None = None
@@ -36,7 +48,7 @@ def atomic_open(
             yield fh
             fh.flush()
             os.fsync(fh.fileno())
-        os.replace(tmp, path)
+        _publish(tmp, path)
     except BaseException:
         with contextlib.suppress(OSError):
             os.unlink(tmp)
@@ -60,7 +72,7 @@ def write_with(path: str | Path, writer: Callable[[str], None]) -> None:
     os.close(fd)
     try:
         writer(tmp)
-        os.replace(tmp, path)
+        _publish(tmp, path)
     except BaseException:
         with contextlib.suppress(OSError):
             os.unlink(tmp)
