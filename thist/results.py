@@ -110,7 +110,12 @@ def _run_dict(run: MethodRun) -> dict:
 
 
 def motion_dict(motion: GroundMotion) -> dict:
-    """The analysed ground motion (SI): processing in order, scaling, intensity, 5 % spectrum."""
+    """The analysed ground motion as a JSON-ready dict (SI units).
+
+    Processing steps in order with parameters and figures; the scaling (target and
+    the user's basis, factor, bounds and whether one binds, period range, misfit);
+    the intensity measures; the 5 %-damped spectrum (periods s, PSA m/s^2, SD m).
+    """
     sc, im, sp = motion.scaling, motion.intensity, motion.spectrum
     scaling = None
     if sc is not None:
@@ -137,20 +142,22 @@ def motion_dict(motion: GroundMotion) -> dict:
             "misfit_measure": "RMS of ln(PSA_scaled / PSA_target) over the matching periods",
             "damping": sc.before.damping,
         }
-    return {
-        "raw_record": {"npts": motion.raw.npts, "dt": motion.raw.dt},
-        "record": {"npts": motion.record.npts, "dt": motion.record.dt},
-        "processing": [step.to_dict() for step in motion.processing],
-        "scaling": scaling,
-        "intensity": im.summary(),
-        "spectrum": {
-            "damping": sp.damping,
-            "periods": sp.periods,
-            "psa": sp.psa,
-            "sd": sp.sd,
-            "pga": sp.pga,
-        },
-    }
+    return _clean(
+        {
+            "raw_record": {"npts": motion.raw.npts, "dt": motion.raw.dt},
+            "record": {"npts": motion.record.npts, "dt": motion.record.dt},
+            "processing": [step.to_dict() for step in motion.processing],
+            "scaling": scaling,
+            "intensity": im.summary(),
+            "spectrum": {
+                "damping": sp.damping,
+                "periods": sp.periods,
+                "psa": sp.psa,
+                "sd": sp.sd,
+                "pga": sp.pga,
+            },
+        }
+    )
 
 
 def result_dict(result: CaseResult) -> dict:
