@@ -2,7 +2,9 @@
 
 Subcommands: ``run`` (analyse a case and write results and the report),
 ``check`` (model, modes and every time-step check, no integration), ``compare``
-(several methods and steps on one case), ``verify`` (benchmark problems).
+(several methods and steps on one case), ``verify`` (benchmark problems),
+``spectrum`` (response spectra of a record or of a case's analysed record),
+``synth`` (a synthetic record file for trials).
 Bad input or a refused time step is one line on stderr and exit status 2;
 ``--debug`` shows the traceback.
 """
@@ -156,11 +158,158 @@ def cmd_check(args: argparse.Namespace) -> int:
     return 1 if any(c.refused for c in pre.checks) else 0
 
 
+def cmd_spectrum(args: argparse.Namespace) -> int:
+    """Response spectra of a record or a case's analysed record: CSV, JSON and PNG."""
+    from thist import spectrum_output as so
+
+    source = so.load_source(
+        args.source,
+        unit=args.unit,
+        layout=args.layout,
+        dt=args.dt,
+        columns=args.columns,
+        header_lines=args.header_lines,
+        scale=args.scale,
+        display_unit=args.display_unit,
+    )
+    spec = so.compute(source, so.parse_periods(args.periods), so.parse_damping(args.damping))
+    outdir = Path(args.output) if args.output else Path("reports") / Path(args.source).stem
+    files = so.write_spectrum_files(outdir, spec, source)
+    print("\n".join(so.summary_lines(spec, source)))
+    print("\n" + cautions.SHORT)
+    print("\nwrote " + ", ".join(str(f) for f in files))
+    return 0
+
+
+def cmd_synth(args: argparse.Namespace) -> int:
+    """Write a synthetic record file; say plainly that it is no recorded motion."""
+    from thist import synth_output as sy
+    from thist.units import DisplayUnits
+
+    opts = {k: getattr(args, k) for k in _SYNTH_OPTIONS}
+    synthetic = sy.make_synthetic(seed=args.seed, **opts)
+    path = sy.write_synthetic(args.file, synthetic)
+    print("\n".join(sy.summary_lines(path, synthetic, DisplayUnits())))
+    return 0
+
+
+def _spectrum_arguments(sp: argparse.ArgumentParser) -> None:
+    sp.add_argument(
+        "source",
+        metavar="RECORD-or-CASE",
+        help="a record file, or a case file (*.toml): its processed and scaled record",
+    )
+    sp.add_argument(
+        "--damping",
+        metavar="Z1,Z2",
+        help='damping ratio(s), e.g. 0.02,0.05 or "5 %%" (default 0.05)',
+    )
+    sp.add_argument(
+        "--periods",
+        metavar="LIST-or-RANGE",
+        help="periods: a comma list (s, or with a unit: 0.1,0.5,1) or a log-spaced "
+        "range START:STOP:COUNT (default 0.02:10:200)",
+    )
+    sp.add_argument(
+        "--display-unit",
+        metavar="UNIT",
+        help="acceleration unit of the plot (default: the case's, else g)",
+    )
+    rec = sp.add_argument_group("record file only (a case file states its own)")
+    rec.add_argument("--unit", help='acceleration unit of the values, e.g. g, "cm/s^2" (required)')
+    rec.add_argument(
+        "--layout",
+        choices=("columns", "values"),
+        default="columns",
+        help="time and acceleration columns, or values only (default columns)",
+    )
+    rec.add_argument("--dt", metavar="TIME", help='step of a values-only file, e.g. "0.01 s"')
+    rec.add_argument(
+        "--columns",
+        metavar="TIME,ACCEL",
+        help="time and acceleration columns by name or position (default 1,2)",
+    )
+    rec.add_argument(
+        "--header-lines",
+        type=int,
+        default=0,
+        metavar="N",
+        help="lines skipped at the top (default 0)",
+    )
+    rec.add_argument("--scale", type=float, default=1.0, help="factor on every value (default 1)")
+    sp.add_argument("-o", "--output", metavar="DIR",
+                    help="output folder (default reports/<file name>/)")  # fmt: skip
+
+
+#: Text options of ``thist synth`` passed on to thist.synth_output.make_synthetic.
+_SYNTH_OPTIONS = ("duration", "dt", "site_frequency", "site_damping", "corner_frequency",
+                  "corner_damping", "envelope", "shape_exponent", "peak_time", "rise", "strong",
+                  "decay", "pga", "arias", "baseline_order")  # fmt: skip
+
+
+def _synth_arguments(sp: argparse.ArgumentParser) -> None:
+    from thist.synth_output import ENVELOPES
+
+    sp.add_argument("file", metavar="FILE", help="record file to write (text, two columns)")
+    req = sp.add_argument_group("required (every dimensional value with its unit)")
+    req.add_argument("--seed", type=int, required=True, help="seed of the random generator")
+    req.add_argument("--duration", required=True, metavar="TIME", help='e.g. "30 s"')
+    req.add_argument("--dt", required=True, metavar="TIME", help='e.g. "0.01 s"')
+    req.add_argument(
+        "--site-frequency",
+        required=True,
+        metavar="FREQ",
+        help='Kanai-Tajimi site frequency, e.g. "2 Hz" or "12.6 rad/s"',
+    )
+    req.add_argument(
+        "--site-damping",
+        required=True,
+        metavar="RATIO",
+        help='Kanai-Tajimi site damping ratio, e.g. 0.6 or "60 %%"',
+    )
+    target = req.add_mutually_exclusive_group(required=True)
+    target.add_argument("--pga", metavar="ACCEL", help='target PGA, e.g. "0.3 g"')
+    target.add_argument("--arias", metavar="VELOCITY", help='target Arias intensity, "1.2 m/s"')
+    opt = sp.add_argument_group("optional")
+    opt.add_argument(
+        "--corner-frequency",
+        metavar="FREQ",
+        help='Clough-Penzien high-pass corner, e.g. "0.2 Hz" (with --corner-damping)',
+    )
+    opt.add_argument("--corner-damping", metavar="RATIO", help="Clough-Penzien damping ratio")
+    opt.add_argument(
+        "--envelope",
+        choices=ENVELOPES,
+        default="saragoni-hart",
+        help="time envelope (default saragoni-hart)",
+    )
+    opt.add_argument(
+        "--peak-time",
+        metavar="TIME",
+        help="saragoni-hart: time of the envelope peak (required for it)",
+    )
+    opt.add_argument("--shape-exponent", metavar="B", help="saragoni-hart: exponent b (default 2)")
+    opt.add_argument("--rise", metavar="TIME", help="trapezoid: rise time")
+    opt.add_argument("--strong", metavar="TIME", help="trapezoid: strong-phase duration")
+    opt.add_argument("--decay", metavar="TIME", help="trapezoid: decay time")
+    opt.add_argument("--baseline-order", default="1", metavar="0-3|none",
+                     help="baseline correction of the result (default 1)")  # fmt: skip
+
+
 COMMANDS: dict[str, tuple[Handler, str]] = {
     "run": (cmd_run, "analyse a case; write results.json, histories.csv and report.pdf"),
     "check": (cmd_check, "show the model, its modes and every time-step check"),
     "compare": (cmd_compare, "run several methods and time steps on one case; compare them"),
     "verify": (cmd_verify, "run the benchmark problems; write a verification summary"),
+    "spectrum": (
+        cmd_spectrum,
+        "response spectra of a record or a case's analysed record; write CSV, JSON and PNG",
+    ),
+    "synth": (
+        cmd_synth,
+        "write a synthetic record (Kanai-Tajimi filtered noise) for demonstrations and trial "
+        "runs; synthetic motions are not a substitute for recorded motions selected for the site",
+    ),
 }
 
 
@@ -209,6 +358,10 @@ def build_parser() -> argparse.ArgumentParser:
             sp.add_argument(
                 "-o", "--output", metavar="DIR", help="output folder (default reports/<case name>/)"
             )
+        if name == "spectrum":
+            _spectrum_arguments(sp)
+        if name == "synth":
+            _synth_arguments(sp)
         if name == "verify":
             sp.add_argument(
                 "-o",

@@ -13,12 +13,17 @@ import matplotlib
 matplotlib.use("Agg")
 
 import matplotlib.pyplot as plt  # noqa: E402
+import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
 from reportlab.lib.units import mm  # noqa: E402
 from reportlab.platypus import Image  # noqa: E402
 
 from thist.analysis import CaseResult, MethodRun  # noqa: E402
 from thist.compare import reference_run, roof_difference  # noqa: E402
+from thist.fileio import write_with  # noqa: E402
+from thist.intensity import IntensityMeasures  # noqa: E402
+from thist.scaling import ScalingResult  # noqa: E402
+from thist.spectrum import Spectrum  # noqa: E402
 from thist.units import DisplayUnits  # noqa: E402
 
 #: Print resolution of embedded figures, dots per inch.
@@ -225,3 +230,108 @@ def comparison_figures(result: CaseResult) -> list[Image]:
         out.append(_image(fig))
     out.append(envelopes_figure(result))
     return out
+
+
+def _psa_axes(ax, du: DisplayUnits, title: str = "") -> None:
+    """Log period axis, PSA in the display unit."""
+    ax.set_xscale("log")
+    ax.set_ylim(bottom=0)
+    ax.grid(True, which="both", linewidth=0.3, color="#c8ced6")
+    ax.xaxis.set_major_formatter(matplotlib.ticker.FormatStrFormatter("%g"))
+    _labels(ax, "period T [s]", f"PSA [{du.label('acceleration')}]", title)
+
+
+def _psa_legend(ax) -> None:
+    ax.legend(
+        loc="upper left",
+        bbox_to_anchor=(1.01, 1.0),
+        borderaxespad=0.0,
+        fontsize=_STYLE["legend.fontsize"],
+        frameon=False,
+    )
+
+
+def spectrum_plot(spec: Spectrum, du: DisplayUnits, title: str = ""):
+    """Matplotlib figure of PSA against period, one curve per damping ratio.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        From :func:`thist.spectrum.response_spectrum` (one or several damping ratios).
+    du : DisplayUnits
+        PSA is shown in ``du``'s acceleration unit.
+    title : str, optional
+        Axes title.
+    """
+    fig, axes = _figure(2.6)
+    ax = axes[0, 0]
+    damping = np.atleast_1d(spec.damping)
+    psa = np.atleast_2d(spec.psa)
+    for z, row in zip(damping, psa, strict=True):
+        ax.plot(spec.periods, du.show(row, "acceleration"), label=f"{100 * z:g} % damping")
+    _psa_axes(ax, du, title)
+    _psa_legend(ax)
+    fig.tight_layout()
+    return fig
+
+
+def save_spectrum_png(path, spec: Spectrum, du: DisplayUnits, title: str = ""):
+    """Write :func:`spectrum_plot` as a PNG at print resolution, atomically; return the path."""
+    fig = spectrum_plot(spec, du, title)
+    try:
+        write_with(
+            path,
+            lambda tmp: fig.savefig(
+                tmp, format="png", dpi=DPI, bbox_inches="tight", facecolor="white"
+            ),
+        )
+    finally:
+        plt.close(fig)
+    return path
+
+
+def response_spectrum_figure(spec: Spectrum, du: DisplayUnits) -> Image:
+    """Response spectrum of the analysed record (PSA, log period axis)."""
+    return _image(spectrum_plot(spec, du))
+
+
+def scaling_figure(sc: ScalingResult, du: DisplayUnits) -> Image:
+    """Record spectrum before and after scaling against the target, matching range shaded."""
+    fig, axes = _figure(2.6)
+    ax = axes[0, 0]
+    t = sc.before.periods
+    lo, hi = sc.period_range
+    ax.plot(t, du.show(sc.before.psa, "acceleration"), color="#9aa5b1", label="record as processed")
+    ax.plot(t, du.show(sc.after.psa, "acceleration"), color="#2f4b6e", label="after scaling")
+    if sc.target.kind == "table":
+        keep = (t >= sc.target.periods[0]) & (t <= sc.target.periods[-1])
+        tt = t[keep]
+    else:
+        tt = t
+    ax.plot(tt, du.show(sc.target.psa_at(tt), "acceleration"), color="#b5562b",
+            linestyle="--", label="target (user's)")  # fmt: skip
+    if hi > lo:
+        ax.axvspan(lo, hi, color="#eef1f4", zorder=0, label="matching range")
+    else:
+        ax.axvline(lo, color="#555555", linewidth=0.6, linestyle=":", label="matching period")
+    _psa_axes(ax, du, f"Scaling: factor {sc.factor:.4g}")
+    _psa_legend(ax)
+    fig.tight_layout()
+    return _image(fig)
+
+
+def husid_figure(im: IntensityMeasures) -> Image:
+    """Normalised Arias intensity (Husid curve) with the 5, 75 and 95 % times."""
+    fig, axes = _figure(1.8)
+    ax = axes[0, 0]
+    t = np.arange(im.husid.size) * im.dt
+    ax.plot(t, im.husid, color="#2f4b6e")
+    for tx, lv in ((im.t5, 0.05), (im.t75, 0.75), (im.t95, 0.95)):
+        ax.plot([tx, tx], [0.0, lv], color="#b5562b", linewidth=0.6, linestyle="--")
+        ax.annotate(f"{100 * lv:g} %", (tx, lv), xytext=(3, -8), textcoords="offset points",
+                    fontsize=6.5)  # fmt: skip
+    ax.set_ylim(0.0, 1.02)
+    ax.set_xlim(left=0.0)
+    _labels(ax, "time [s]", "I_a(t) / I_a [-]", "Normalised Arias intensity (Husid curve)")
+    fig.tight_layout()
+    return _image(fig)
