@@ -314,15 +314,12 @@ def record_section(ctx: Ctx) -> list[Flowable]:
         pairs.append(("File header", "<br/>".join(esc(h) for h in rec.header[:8])))
     motion = ctx.result.motion
     if motion is not None:
-        for step in motion.processing:
-            pairs.append(("Processing", esc(step.text)))
+        n_steps = len(motion.processing)
+        if n_steps:
+            pairs.append(("Processing", f"{n_steps} step(s), listed in order below"))
         if motion.scaling is not None:
             pairs.append(
-                (
-                    "Scaling",
-                    f"factor {fmt(motion.scaling.factor)} to the "
-                    f"{esc(motion.scaling.target.describe())}",
-                )
+                ("Scaling", f"factor {fmt(motion.scaling.factor)} to the user's target, below")
             )
     for note in ex.notes:
         pairs.append(("Sampling", esc(note)))
@@ -330,12 +327,150 @@ def record_section(ctx: Ctx) -> list[Flowable]:
     out.append(key_values(ctx, pairs))
     out.append(
         ctx.p(
-            "PGV and PGD by trapezoidal integration of the record from rest, without "
-            "baseline correction.",
+            "Peaks of the analysed record (after the processing and scaling below, if any); "
+            "PGV and PGD by trapezoidal integration from rest.",
             "small",
         )
     )
     out.append(figures.record_figure(ex.time, ex.ag, du))
+    if motion is not None:
+        out += motion_block(ctx)
+    return out
+
+
+def _step_params(params: dict) -> str:
+    """``key = value`` pairs of a processing step (numbers with :func:`fmt`)."""
+    items = []
+    for k, v in params.items():
+        if isinstance(v, bool | int | str) or v is None:
+            text = "-" if v is None else str(v)
+        else:
+            text = fmt(v)
+        items.append(f"{k} = {text}")
+    return ", ".join(items)
+
+
+def motion_block(ctx: Ctx) -> list[Flowable]:
+    """Processing, intensity measures, spectrum and scaling of the analysed record."""
+    motion, du = ctx.result.motion, ctx.du
+    A, V = ctx.u("acceleration"), ctx.u("velocity")
+    out: list[Flowable] = [ctx.p("Processing of the record", "h2")]
+    if motion.processing:
+        rows = [
+            [str(i), esc(st.name), esc(_step_params(st.params)), esc(st.text)]
+            for i, st in enumerate(motion.processing, start=1)
+        ]
+        out.append(table(ctx, ["#", "step", "parameters (SI: s, Hz)", "what was done"], rows,
+                         [8 * mm, 18 * mm, 52 * mm, WIDTH - 78 * mm]))  # fmt: skip
+    else:
+        out.append(ctx.p("None: the record is analysed as read (unit and scale factor "
+                         "applied).", "small"))  # fmt: skip
+    im = motion.intensity
+    out.append(ctx.p("Intensity measures of the analysed record", "h2"))
+    header = [
+        "Arias intensity I<sub>a</sub> [m/s]",
+        "D5–95 [s]",
+        "D5–75 [s]",
+        f"CAV [{V}]",
+        f"bracketed duration [s] (|a| ≥ {fmt(du.show(im.bracket_threshold, 'acceleration'))} {A})",
+        "mean period T<sub>m</sub> [s]",
+    ]
+    row = [
+        fmt(im.arias),
+        fmt(im.d5_95),
+        fmt(im.d5_75),
+        fmt(du.show(im.cav, "velocity")),
+        fmt(im.bracketed_duration),
+        fmt(im.mean_period),
+    ]
+    out.append(table(ctx, header, [row], align_right_from=0))
+    band = "–".join(fmt(f) for f in im.mean_period_band)
+    out.append(
+        ctx.p(
+            "I<sub>a</sub> = π/(2g)∫a<sub>g</sub>²dt (Arias 1970); significant durations "
+            "between 5, 75 and 95 % of I<sub>a</sub> (Trifunac &amp; Brady 1975); CAV = "
+            "∫|a<sub>g</sub>|dt; bracketed duration between the first and last excursion "
+            f"beyond the threshold; T<sub>m</sub> over {band} Hz (Rathje, Abrahamson &amp; "
+            f"Bray 1998). 5, 75 and 95 % reached at {fmt(im.t5)}, {fmt(im.t75)} and "
+            f"{fmt(im.t95)} s.",
+            "small",
+        )
+    )
+    out.append(figures.husid_figure(im))
+    sp = motion.spectrum
+    out.append(
+        KeepTogether(
+            [
+                ctx.p(
+                    f"Response spectrum of the analysed record ({pct(sp.damping, 0)} % damping)",
+                    "h2",
+                ),
+                figures.response_spectrum_figure(sp, du),
+                ctx.p(
+                    "Linear elastic oscillator starting at rest; exact for the record taken as "
+                    "linear between samples (Nigam &amp; Jennings 1969); PSA = ω²·SD, peaks at "
+                    f"the samples; {sp.periods.size} periods from {fmt(sp.periods[0])} to "
+                    f"{fmt(sp.periods[-1])} s.",
+                    "small",
+                ),
+            ]
+        )
+    )
+    if motion.scaling is not None:
+        out += scaling_block(ctx)
+    return out
+
+
+def scaling_block(ctx: Ctx) -> list[Flowable]:
+    """The scaling to the user's target: target beside its basis, range, factor, warning."""
+    sc, du = ctx.result.motion.scaling, ctx.du
+    tgt, A = sc.target, ctx.u("acceleration")
+    if tgt.kind == "table":
+        what = (
+            f"table of {tgt.periods.size} (period, PSA) points from {fmt(tgt.periods[0])} to "
+            f"{fmt(tgt.periods[-1])} s, interpolated in log–log"
+        )
+    else:
+        what = (
+            f"two-parameter shape: S<sub>S</sub> = {fmt(du.show(tgt.s_short, 'acceleration'))} "
+            f"{A}, S<sub>1</sub> = {fmt(du.show(tgt.s_one, 'acceleration'))} {A}, "
+            f"T<sub>L</sub> = {fmt(tgt.t_long)} s"
+        )
+    lo, hi = sc.period_range
+    n_match = sc.matching_periods.size
+    matching = (
+        f"PSA matched at T = {fmt(lo)} s"
+        if hi == lo
+        else f"least squares in ln PSA over {fmt(lo)} to {fmt(hi)} s ({n_match} periods)"
+    )
+    b_lo, b_hi = sc.bounds
+    bounds = f"{fmt(b_lo)} to {fmt(b_hi) if math.isfinite(b_hi) else 'no upper bound'}"
+    pairs = [
+        ("Target spectrum", what),
+        ("Basis stated by the user", esc(tgt.basis)),
+        ("Matching", matching),
+        ("Period range [s]", f"{fmt(lo)} – {fmt(hi)}"),
+        ("Damping of the spectra", f"{pct(sc.before.damping, 0)} %"),
+        ("Scale factor [-]", fmt(sc.factor)),
+        ("Best factor without bounds [-]", fmt(sc.unbounded_factor)),
+        ("Bounds on the factor [-]", bounds),
+        ("Misfit [-]", f"{fmt(sc.misfit, 3)} (RMS of ln(PSA scaled / PSA target))"),
+    ]
+    out: list[Flowable] = [
+        ctx.p("Scaling to the user's target spectrum", "h2"),
+        key_values(ctx, pairs),
+    ]
+    if sc.warning:
+        out.append(ctx.p(f"Warning: {esc(sc.warning)}.", "warn"))
+    out.append(figures.scaling_figure(sc, du))
+    out.append(
+        ctx.p(
+            "The target and its basis are the user's; thist holds no code values. Amplitude "
+            "scaling multiplies the whole record by one factor, so every linear spectral "
+            "ordinate scales by it.",
+            "small",
+        )
+    )
     return out
 
 
