@@ -110,7 +110,7 @@ def test_terminal_and_help_say_synthetic_is_no_substitute_for_recorded_motions(t
         ({"--duration": "12"}, '--duration: expected time, got "12" (no unit)'),
         ({"--dt": "0.01 m"}, "--dt: expected time"),
         ({"--site-damping": "1.5"}, "--site-damping: must be a damping ratio"),
-        ({"--site-frequency": "150 rpm"}, "--site-frequency: give the frequency in Hz or rad/s"),
+        ({"--site-frequency": "150 kg"}, "--site-frequency: expected frequency"),
         ({"--seed": "-1"}, "--seed: must be a non-negative integer"),
         ({"--peak-time": "0 s"}, "--peak-time: must be positive"),
     ],

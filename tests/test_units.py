@@ -81,3 +81,13 @@ def test_non_finite_values_are_refused():
         parse_quantity(math.inf, "dimensionless", "ratio", "a.toml")
     with pytest.raises(InputError, match="finite"):
         parse_quantity("nan m", "length", "h", "a.toml")
+
+
+@pytest.mark.parametrize(
+    ("text", "hz"),
+    [("2 Hz", 2.0), ("12.566370614359172 rad/s", 2.0), ("120 rpm", 2.0), ("720 degree/s", 2.0),
+     ("2 turn/s", 2.0), ("0.5 kHz", 500.0)],
+)
+def test_angular_frequencies_convert_to_hertz(text, hz):
+    """pint counts the radian as 1, so rad/s would read as Hz; ω = 2πf (definition)."""
+    assert parse_quantity(text, "frequency") == pytest.approx(hz, rel=1e-12)

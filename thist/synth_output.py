@@ -12,7 +12,6 @@ for recorded motions selected for the site.
 from __future__ import annotations
 
 import math
-import re
 from pathlib import Path
 
 from thist.errors import InputError
@@ -63,17 +62,11 @@ _OPTION = {
     "envelope.decay": "--decay",
 }
 
-_ANGLE = re.compile(r"rad", re.IGNORECASE)
-_OTHER_ANGLE = re.compile(r"rpm|rev|deg|turn|cycle", re.IGNORECASE)
-
-
 def circular_frequency(text: str, field: str) -> float:
-    """Circular frequency omega, rad/s, from ``"2.5 Hz"`` or ``"15.7 rad/s"``.
+    """Circular frequency ω = 2πf, rad/s, from ``"2.5 Hz"``, ``"15.7 rad/s"`` or ``"150 rpm"``.
 
-    A frequency in Hz (or 1/s) is multiplied by 2 pi; one written with ``rad`` is
-    taken as a circular frequency as it stands.  Other angle units (rpm, degrees)
-    are refused, since the unit registry treats angles as plain numbers and would
-    read them without the factor 2 pi.
+    :func:`thist.units.parse_quantity` reads any frequency, angular ones included,
+    as cycles per second.
 
     Parameters
     ----------
@@ -85,14 +78,12 @@ def circular_frequency(text: str, field: str) -> float:
     Returns
     -------
     float
-        omega, rad/s, > 0.
+        ω, rad/s, > 0.
     """
-    if _OTHER_ANGLE.search(text):
-        raise InputError(f'give the frequency in Hz or rad/s, got "{text}"', field)
     value = parse_quantity(text, "frequency", field)
     if not value > 0.0:
         raise InputError(f'must be positive, got "{text}"', field)
-    return value if _ANGLE.search(text) else 2.0 * math.pi * value
+    return 2.0 * math.pi * value
 
 
 def _ratio(text: str, field: str) -> float:

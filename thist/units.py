@@ -128,7 +128,16 @@ def parse_quantity(
     magnitude = q.to_base_units().magnitude
     if dim.name == "dimensionless":
         magnitude = q.to("dimensionless").magnitude
+    elif dim.name == "frequency" and _has_angle(q):
+        # pint treats the radian as a plain number, so "12.6 rad/s" would read as 12.6 Hz:
+        # an angular frequency is converted to cycles per second here.
+        magnitude = q.to("radian / second").magnitude / (2.0 * math.pi)
     return _finite(float(magnitude), field, file)
+
+
+def _has_angle(q: pint.Quantity) -> bool:
+    """True if any unit of ``q`` is an angle (radian, degree, turn, rpm, …)."""
+    return any("radian" in str(ureg.get_base_units(name)[1]) for name, _ in q.unit_items())
 
 
 def _finite(x: float, field: str | None, file: str | None) -> float:

@@ -856,7 +856,10 @@ def comparison_section(ctx: Ctx) -> list[Flowable]:
 
 def cautions_section(ctx: Ctx) -> list[Flowable]:
     out = heading(ctx, 10, "Cautions")
-    out += [ctx.p(f"{i}. {esc(text)}") for i, text in enumerate(cautions.FULL, start=1)]
+    texts = list(cautions.FULL)
+    if any(r.story is not None for r in ctx.result.runs):
+        texts.insert(2, cautions.INELASTIC)
+    out += [ctx.p(f"{i}. {esc(text)}") for i, text in enumerate(texts, start=1)]
     return out
 
 
