@@ -22,6 +22,12 @@ A method is a frozen dataclass whose fields are its parameters. It states:
     :meth:`integrate`, and from it follow the amplification matrix and hence the
     numerical period error and algorithmic damping (:func:`spectral_properties`);
     the fast modal path also runs this recurrence as a linear filter.
+``initial_state(m, c, k, dt)``
+    The map from (u0, v0, f0) to the first state of that recurrence.
+``filtered_components(s)``, ``complete_states(X, f, c, k, dt)``, ``modal_outputs(X, f, c, k, dt)``
+    How the modal path (:mod:`thist.methods.modal_path`) turns the states of all
+    modes, run as filters, into (u, v, a): which components are filtered, how the
+    rest follow from them, and how the outputs are read (vectorised over modes).
 ``integrate(M, C, K, p, dt, u0, v0)``
     Direct integration of ``M a + C v + K u = p(t)`` on the coupled system.
 
@@ -167,32 +173,67 @@ class Method(ABC):
         Solution
         """
 
-    def modal_outputs(
-        self, X: np.ndarray, f: np.ndarray, m: float, c: float, k: float, dt: float
-    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """One DOF's (u, v, a) histories from its recurrence states.
+    def filtered_components(self, s: int) -> tuple[int, ...]:
+        """State components the modal path runs as filters; the rest follow from them.
 
         Parameters
         ----------
-        X : ndarray, shape (N + 1, s)
-            States x[0] … x[N] of :meth:`step_matrices` (one past the last sample).
-        f : ndarray, shape (N + 1,)
-            Load at the same samples.
-        m, c, k : float
-            The DOF's mass, damping and stiffness.
+        s : int
+            Number of state components of :meth:`step_matrices`.
+
+        The default filters every component; a method whose remaining components
+        follow from the filtered ones without recursion fills them in
+        :meth:`complete_states` (cheaper than another filter).
+        """
+        return tuple(range(s))
+
+    def complete_states(  # noqa: B027 - optional hook
+        self, X: np.ndarray, f: np.ndarray, c: np.ndarray, k: np.ndarray, dt: float
+    ) -> None:
+        """Fill, in place, the state components not in :meth:`filtered_components`.
+
+        Parameters
+        ----------
+        X : ndarray, shape (n, s, L)
+            States of n unit-mass DOFs at L consecutive samples; the first
+            sample is complete, the others hold only the filtered components.
+        f : ndarray, shape (n, L)
+            Load per unit mass at the same samples, m/s².
+        c, k : ndarray, shape (n,)
+            Damping (1/s) and stiffness (1/s²) per unit mass of each DOF.
+        dt : float
+            Time step, s.
+        """
+
+    def modal_outputs(
+        self, X: np.ndarray, f: np.ndarray, c: np.ndarray, k: np.ndarray, dt: float
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(u, v, a) histories of n unit-mass DOFs from their recurrence states.
+
+        Parameters
+        ----------
+        X : ndarray, shape (n, s, L + 1)
+            Complete states at L + 1 consecutive samples (one past the last
+            output sample, which explicit methods need).
+        f : ndarray, shape (n, L + 1)
+            Load per unit mass at the same samples, m/s².
+        c, k : ndarray, shape (n,)
+            Damping (1/s) and stiffness (1/s²) per unit mass.
         dt : float
             Time step, s.
 
         Returns
         -------
-        (u, v, a) : ndarrays, shape (N,)
-            The default reads a state (u, v, a), or (u, v) with a from equilibrium.
+        (u, v, a) : ndarrays, shape (n, L)
+            In m, m/s, m/s² (per unit modal coordinate). The default reads a
+            state (u, v, a), or (u, v) with a from equilibrium; the returned
+            arrays may be views of ``X``.
         """
-        n = f.size - 1
+        n = f.shape[1] - 1
         if X.shape[1] >= 3:
-            return X[:n, 0], X[:n, 1], X[:n, 2]
-        u, v = X[:n, 0], X[:n, 1]
-        return u, v, (f[:n] - c * v - k * u) / m
+            return X[:, 0, :n], X[:, 1, :n], X[:, 2, :n]
+        u, v = X[:, 0, :n], X[:, 1, :n]
+        return u, v, f[:, :n] - c[:, None] * v - k[:, None] * u
 
     def spectral_properties(self, omega_dt: float, zeta: float = 0.0) -> SpectralProperties:
         """Period error and algorithmic damping at Ω = ωΔt from the amplification matrix.

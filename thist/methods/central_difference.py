@@ -59,12 +59,13 @@ class CentralDifference(Method):
         h = 0.5 * dt * dt
         return np.array([[1.0, 0.0, 0.0], [1.0 + h * a_u, -dt + h * a_v, h * a_f]])
 
-    def modal_outputs(self, X, f, m, c, k, dt):
-        # X[n] = (u[n], u[n-1]) for n = 0 .. N; central differences as in integrate().
-        u_ext = np.concatenate([X[:1, 1], X[:, 0]])
-        u = u_ext[1:-1]
-        v = (u_ext[2:] - u_ext[:-2]) / (2.0 * dt)
-        a = (u_ext[2:] - 2.0 * u + u_ext[:-2]) / dt**2
+    def modal_outputs(self, X, f, c, k, dt):
+        # X[:, :, j] = (u[j], u[j-1]) for j = 0 .. L; central differences as in integrate().
+        u_next = X[:, 0, 1:]
+        u = X[:, 0, :-1]
+        u_prev = X[:, 1, :-1]
+        v = (u_next - u_prev) / (2.0 * dt)
+        a = (u_next - 2.0 * u + u_prev) / dt**2
         return u, v, a
 
     def integrate(self, M, C, K, p, dt, u0=None, v0=None):

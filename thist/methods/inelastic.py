@@ -103,6 +103,7 @@ import scipy.linalg as sla
 from thist.energy import EnergyBalance
 from thist.errors import InputError, StabilityError
 from thist.methods import get_method
+from thist.methods import inelastic_kernel as _kernel
 from thist.methods.alpha import HHT, GeneralizedAlpha, Newmark
 from thist.methods.base import Method, Solution, check_finite_growth, growth_bound
 from thist.methods.central_difference import CentralDifference
@@ -468,6 +469,24 @@ def alpha_step(
     raise _NotConverged(residual, it)
 
 
+def _convergence_error(
+    name: str, t0: float, dt: float, depth: int, iterations: int, r: np.ndarray
+) -> ConvergenceError:
+    """The error of a step that did not converge after ``depth`` halvings."""
+    j = int(np.nanargmax(np.abs(r))) if np.any(np.isfinite(r)) else 0
+    rj = float(r[j])
+    return ConvergenceError(
+        f"{name}: the Newton-Raphson iteration did not converge in the "
+        f"step from t = {t0:.6g} s (step {dt:.4g} s after {depth} halvings, "
+        f"{iterations} corrections); the largest residual, {rj:.4g} N, is at "
+        f"the top of story {j} (0 = bottom). The run was stopped: reduce the time "
+        "step, allow more iterations or halvings, or check the spring parameters",
+        t0,
+        j,
+        rj,
+    )
+
+
 class _ImplicitRun:
     """Running state of an implicit inelastic run, with halving of failed steps."""
 
@@ -548,18 +567,8 @@ class _ImplicitRun:
         except _NotConverged as exc:
             self.iterations += exc.iterations
             if depth >= self.options.max_halvings:
-                r = exc.residual
-                j = int(np.nanargmax(np.abs(r))) if np.any(np.isfinite(r)) else 0
-                rj = float(r[j])
-                raise ConvergenceError(
-                    f"{self.method.name}: the Newton-Raphson iteration did not converge in the "
-                    f"step from t = {t0:.6g} s (step {dt:.4g} s after {depth} halvings, "
-                    f"{exc.iterations} corrections); the largest residual, {rj:.4g} N, is at "
-                    f"the top of story {j} (0 = bottom). The run was stopped: reduce the time "
-                    "step, allow more iterations or halvings, or check the spring parameters",
-                    t0,
-                    j,
-                    rj,
+                raise _convergence_error(
+                    self.method.name, t0, dt, depth, exc.iterations, exc.residual
                 ) from None
             pm = 0.5 * (p0 + p1)
             self.advance(t0, 0.5 * dt, p0, pm, depth + 1)
@@ -583,6 +592,218 @@ class _ImplicitRun:
         self.deepest = max(self.deepest, depth)
 
 
+# -- the compiled path (thist.methods.inelastic_kernel) -----------------------------------
+
+
+def use_compiled(compiled: bool | None) -> bool:
+    """Whether a run uses the compiled kernels.
+
+    Parameters
+    ----------
+    compiled : bool or None
+        None: the kernels when numba is available (and ``THIST_NO_NUMBA`` is not
+        set); True: require them; False: the pure-numpy path.
+    """
+    if compiled is None:
+        return _kernel.AVAILABLE
+    if compiled and not _kernel.AVAILABLE:
+        raise InputError(
+            "the compiled kernels need numba (pip install 'thist[fast]'), and "
+            "THIST_NO_NUMBA must not be set",
+            "compiled",
+        )
+    return bool(compiled)
+
+
+class _CompiledRun:
+    """Arrays of one run of the compiled kernels, advanced chunk by chunk of samples.
+
+    Implicit methods: :meth:`start` sets sample 0, each :meth:`run` call of a
+    chunk ``ag[i0 … i0+L]`` writes samples i0+1 … i0+L. Central difference:
+    :meth:`start` sets u[−1] and u[0], each call with ``ag[i0 … i0+L−1]`` writes
+    samples i0 … i0+L−1 (step i completes sample i).
+    """
+
+    def __init__(
+        self,
+        method: Method,
+        masses: np.ndarray,
+        springs: SpringParameters,
+        a0: float,
+        a1: float,
+        damping: str,
+        options: SolverOptions,
+        force_scale: float,
+        bound: float,
+        dt: float,
+        n_steps: int,
+    ):
+        n = masses.size
+        self.method = method
+        self.explicit = isinstance(method, CentralDifference)
+        self.params = springs
+        self.m = np.ascontiguousarray(masses, dtype=float)
+        self.k = np.ascontiguousarray(springs.stiffness, dtype=float)
+        self.fy = np.ascontiguousarray(springs.yield_force, dtype=float)
+        self.alpha = np.ascontiguousarray(springs.post_yield_ratio, dtype=float)
+        self.hard = self.alpha * self.k / (1.0 - self.alpha)
+        self.codes = springs.codes.astype(np.int64)
+        self.a0, self.a1 = a0, a1
+        self.tangent = damping == "tangent"
+        self.options = options
+        self.force_scale = force_scale
+        self.bound = bound
+        self.dt = dt
+        self.n_steps = n_steps
+        self.springs = _kernel.initial_springs(self.k, springs.yield_drift)
+        self.trial = np.zeros((_kernel.N_TRIAL_ROWS, n))
+        self.state = np.zeros((5, n))
+        self.counters = np.zeros(len(_kernel.COUNTER_NAMES))
+        self.counters[_kernel.COUNTER_NAMES.index("block_finite")] = 1.0
+        self.peaks = np.zeros((2, n))
+        self.err = np.zeros(4 + n)
+        if not self.explicit:
+            self.coef = np.array(method.coefficients, dtype=float)
+
+    def counter(self, name: str) -> float:
+        """A counter of the run (see ``inelastic_kernel.COUNTER_NAMES``)."""
+        return float(self.counters[_kernel.COUNTER_NAMES.index(name)])
+
+    def start(self, u0: np.ndarray, v0: np.ndarray, ag0: float) -> None:
+        """Commit the springs at u0 and set the first state (v0 the initial velocity)."""
+        p0 = -(ag0 * self.m)
+        args = (self.m, self.k, self.fy, self.alpha, self.hard, self.codes, self.a0, self.a1)
+        _kernel.implicit_start(
+            *args, self.tangent, self.springs, self.trial, self.state, u0, v0, p0
+        )
+        drift = self.springs[0]
+        if self.explicit:
+            # the pure path's start (same expressions): u[-1] from a[0] at equilibrium
+            c = self.a1 * (self.springs[2] if self.tangent else self.k)
+            fs = level_forces(self.springs[1])
+            a_start = (p0 - self.a0 * self.m * v0 - level_forces(c * story_drift(v0)) - fs) / self.m
+            self.state[0] = u0 - self.dt * v0 + 0.5 * self.dt * self.dt * a_start
+            self.state[1] = u0
+            self.state[3] = fs
+            self.peaks[0] = drift
+        else:
+            self.peaks[0] = np.where(np.abs(drift) > 0.0, drift, 0.0)
+        block = np.abs(u0)
+        i_max = _kernel.COUNTER_NAMES.index("block_max")
+        self.counters[i_max] = float(block.max()) if np.all(np.isfinite(block)) else 0.0
+        if not np.all(np.isfinite(u0)):
+            self.counters[_kernel.COUNTER_NAMES.index("block_finite")] = 0.0
+
+    def run(
+        self,
+        ag: np.ndarray,
+        i0: int,
+        u: np.ndarray,
+        v: np.ndarray,
+        a: np.ndarray,
+        shear: np.ndarray,
+        scalars: np.ndarray,
+        f_damp: np.ndarray | None = None,
+    ) -> None:
+        """Advance over a chunk of the record (see the class docstring); raises as the pure path.
+
+        ``scalars`` (L, 3) receives the spring work, input and damping energy at
+        each sample (central difference: the work only; its energies follow from
+        ``f_damp``, the damping force at each sample).
+        """
+        name = self.method.name
+        args = (self.m, self.k, self.fy, self.alpha, self.hard, self.codes, self.a0, self.a1)
+        run_state = (self.bound, self.springs, self.trial, self.state, self.counters, self.peaks)
+        chunk = (ag, i0, self.n_steps, u, v, a, shear, scalars)
+        if self.explicit:
+            kernel_args = (self.dt, *args, self.tangent, *run_state, *chunk, f_damp, self.err)
+            status, _ = _kernel.central_chunk(*kernel_args)
+        else:
+            o = self.options
+            solver = (
+                o.iteration == "modified-newton",
+                o.force_tolerance,
+                o.energy_tolerance,
+                int(o.max_iterations),
+                int(o.max_halvings),
+                self.force_scale,
+            )
+            kernel_args = (self.coef, self.dt, *args, self.tangent, *solver, *run_state)
+            status, _ = _kernel.implicit_chunk(*kernel_args, *chunk, self.err)
+        if status == _kernel.OK:
+            return
+        e = self.err
+        if status == _kernel.NOT_CONVERGED:
+            raise _convergence_error(
+                name, float(e[0]), float(e[1]), int(e[2]), int(e[3]), e[4:].copy()
+            )
+        if status == _kernel.NOT_POSITIVE:
+            raise np.linalg.LinAlgError(
+                f"effective tangent not positive definite (info {int(e[1])})"
+            )
+        # growth: the same message as check_finite_growth on the failing block
+        check_finite_growth(
+            np.array([float(e[1]) if e[0] == 1.0 else math.nan]), self.bound, float(e[2]), name
+        )
+
+    def spring_state(self) -> SpringState:
+        """The committed spring state as a :class:`~thist.springs.SpringState`."""
+        state = self.params.new_state()
+        _kernel.unpack_springs(self.springs, state)
+        return state
+
+    def stats(self) -> ConvergenceStats:
+        """Convergence statistics so far (all zero iterations for central difference)."""
+        if self.explicit:
+            return ConvergenceStats(self.n_steps - 1, 0, 0, 0, self.n_steps - 1, 0)
+        c = self.counter
+        return ConvergenceStats(
+            self.n_steps - 1,
+            int(c("iterations")),
+            int(c("max_iterations")),
+            int(c("subdivided")),
+            int(c("substeps")),
+            int(c("deepest")),
+        )
+
+
+def _compiled_histories(run: _CompiledRun, ag: np.ndarray, m: np.ndarray, u0, v0) -> tuple:
+    """Full histories of a run by the compiled kernels, in one chunk."""
+    n_steps, n = ag.size, m.size
+    u = np.empty((n_steps, n))
+    v = np.empty((n_steps, n))
+    a = np.empty((n_steps, n))
+    shear = np.empty((n_steps, n))
+    scalars = np.empty((n_steps, 3))
+    run.start(u0, v0, float(ag[0]))
+    if run.explicit:
+        f_damp = np.empty((n_steps, n))
+        run.run(ag, 0, u, v, a, shear, scalars, f_damp)
+        p = -np.outer(ag, m)
+        e_input = _cumulative_work(u, p)
+        e_damping = _cumulative_work(u, f_damp)
+    else:
+        u[0], v[0], a[0], shear[0] = run.state[0], run.state[1], run.state[2], run.springs[1]
+        scalars[0] = (run.springs[6].sum(), 0.0, 0.0)
+        run.run(ag, 0, u[1:], v[1:], a[1:], shear[1:], scalars[1:])
+        e_input = scalars[:, 1].copy()
+        e_damping = scalars[:, 2].copy()
+    work = scalars[:, 0].copy()
+    state = run.spring_state()
+    return (
+        u,
+        v,
+        a,
+        shear,
+        work,
+        e_input,
+        e_damping,
+        state,
+        run.peaks[0].copy(),
+        run.peaks[1].copy(),
+    )
+
+
 # -- the public entry point --------------------------------------------------------------
 
 
@@ -599,6 +820,7 @@ def integrate_inelastic(
     u0: np.ndarray | None = None,
     v0: np.ndarray | None = None,
     free_vibration_tail: float = 0.0,
+    compiled: bool | None = None,
 ) -> InelasticSolution:
     """Inelastic response of a shear chain with yielding story springs to base motion.
 
@@ -629,6 +851,11 @@ def integrate_inelastic(
     free_vibration_tail : float
         Seconds of zero ground acceleration appended to the record, so that the
         residual drift is read after the motion has died down. Default 0.
+    compiled : bool, optional
+        Run the per-step work in the compiled kernels of
+        :mod:`thist.methods.inelastic_kernel` (same algorithm, same results to
+        round-off). Default: when numba is available and the environment
+        variable ``THIST_NO_NUMBA`` is not set; False forces the pure-numpy path.
 
     Returns
     -------
@@ -690,23 +917,17 @@ def integrate_inelastic(
         )
     bound = growth_bound(np.diag(m), chain_stiffness(k0), p, u0, v0, omega_max, n_steps * dt)
 
-    if isinstance(method, CentralDifference):
+    check_inelastic_method(method)
+    if use_compiled(compiled):
+        scale = float(np.max(np.abs(p)))
+        run = _CompiledRun(method, m, springs, a0, a1, damping, options, scale, bound, dt, n_steps)
+        core = _compiled_histories(run, ag, m, u0, v0)
+        stats = run.stats()
+    elif isinstance(method, CentralDifference):
         core = _central_difference(m, springs, p, dt, a0, a1, damping, u0, v0, method.name, bound)
         stats = ConvergenceStats(n_steps - 1, 0, 0, 0, n_steps - 1, 0)
-    elif isinstance(method, Newmark | HHT | GeneralizedAlpha):
-        if method.coefficients[2] <= 0.0:
-            raise InputError(
-                "an implicit inelastic run needs beta > 0; use central-difference for the "
-                "explicit nonlinear path",
-                "method",
-            )
-        core, stats = _implicit(m, springs, p, dt, method, a0, a1, damping, options, u0, v0, bound)
     else:
-        raise InputError(
-            f"method {method.name!r} has no inelastic form; use one of newmark-average, "
-            "newmark-linear, newmark, hht, generalized-alpha, central-difference",
-            "method",
-        )
+        core, stats = _implicit(m, springs, p, dt, method, a0, a1, damping, options, u0, v0, bound)
     u, v, a, shear, work, e_input, e_damping, state, peak_signed, peak_time = core
 
     t = np.arange(n_steps) * dt
@@ -744,6 +965,25 @@ def integrate_inelastic(
         damping,
         (a0, a1),
         options,
+    )
+
+
+def check_inelastic_method(method: Method) -> None:
+    """Raise InputError unless ``method`` has an inelastic form (implicit with β > 0, or CD)."""
+    if isinstance(method, CentralDifference):
+        return
+    if isinstance(method, Newmark | HHT | GeneralizedAlpha):
+        if method.coefficients[2] <= 0.0:
+            raise InputError(
+                "an implicit inelastic run needs beta > 0; use central-difference for the "
+                "explicit nonlinear path",
+                "method",
+            )
+        return
+    raise InputError(
+        f"method {method.name!r} has no inelastic form; use one of newmark-average, "
+        "newmark-linear, newmark, hht, generalized-alpha, central-difference",
+        "method",
     )
 
 

@@ -7,6 +7,8 @@ each component is a first-order filter ``y[k+1] = λ y[k] + h[k]``, which
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 from scipy.signal import lfilter
 
@@ -102,17 +104,123 @@ def transfer_numerators(A: np.ndarray, B: np.ndarray, den: np.ndarray) -> np.nda
     return num
 
 
+@dataclass(frozen=True, eq=False)
+class FilterBank:
+    """The recurrences of n independent one-load systems as real rational filters.
+
+    ``x[k+1] = A x[k] + B0 f[k] + B1 f[k+1]`` becomes, with ``y = x − B1 f``,
+    ``y[k+1] = A y[k] + B f[k]`` (``B = A B1 + B0``): every state component is
+    ``Y_c(z) = (N_c(z) F(z) + Z_c(z)) / D(z)`` with ``D`` the characteristic
+    polynomial of ``A`` (:func:`characteristic_polynomials`), ``N_c`` from the
+    Markov parameters (:func:`transfer_numerators`) and ``Z_c`` the free response
+    of the initial state. :func:`scipy.signal.lfilter` runs ``N_c / D`` with
+    ``Z_c`` as its initial conditions ``zi`` (in the transposed direct form the
+    zero-input response of ``zi`` is exactly ``Z_c / D``), so one call per mode and
+    component does the whole work at C speed, and the final ``zi`` it returns
+    continues the run exactly in the next chunk of samples.
+
+    Attributes
+    ----------
+    A : ndarray, shape (n, s, s)
+    B1 : ndarray, shape (n, s)
+    den : ndarray, shape (n, s + 1)
+        Characteristic polynomial of each ``A``, in powers of z⁻¹.
+    num : ndarray, shape (n, s, s + 1)
+        Numerator of each state component's transfer function from the load.
+    """
+
+    A: np.ndarray
+    B1: np.ndarray
+    den: np.ndarray
+    num: np.ndarray
+
+    @property
+    def num_total(self) -> np.ndarray:
+        """Numerators of ``x`` itself: ``N_c + B1_c D`` (the feed-through folded in)."""
+        return self.num + self.B1[:, :, None] * self.den[:, None, :]
+
+    @property
+    def order(self) -> int:
+        """Number of state components s."""
+        return self.A.shape[1]
+
+
+def filter_bank(A: np.ndarray, B0: np.ndarray, B1: np.ndarray) -> FilterBank:
+    """Filters of ``x[k+1] = A x[k] + B0 f[k] + B1 f[k+1]`` for a stack of systems.
+
+    Parameters
+    ----------
+    A : ndarray, shape (n, s, s)
+    B0, B1 : ndarray, shape (n, s)
+    """
+    den = characteristic_polynomials(A)
+    num = transfer_numerators(A, np.einsum("nij,nj->ni", A, B1) + B0, den)
+    return FilterBank(A, B1, den, num)
+
+
+def initial_conditions(bank: FilterBank, x0: np.ndarray, f0: np.ndarray) -> np.ndarray:
+    """``zi`` of every mode and component that starts the filters in state ``x0``.
+
+    Parameters
+    ----------
+    bank : FilterBank
+    x0 : ndarray, shape (n, s)
+        Initial states.
+    f0 : ndarray, shape (n,)
+        Load at the first sample.
+
+    Returns
+    -------
+    ndarray, shape (n, s, s)
+        The coefficients of ``Z_c`` (the free response numerators).
+    """
+    num_0 = transfer_numerators(bank.A, x0 - bank.B1 * f0[:, None], bank.den)
+    return np.ascontiguousarray(num_0[:, :, 1:])
+
+
+def run_filters(
+    bank: FilterBank,
+    f: np.ndarray,
+    zi: np.ndarray,
+    components: tuple[int, ...],
+    out: np.ndarray | None = None,
+) -> np.ndarray:
+    """States ``x`` of every system at the samples of ``f``; advances ``zi`` in place.
+
+    Parameters
+    ----------
+    bank : FilterBank
+    f : ndarray, shape (n, L)
+        Load of each system at L consecutive samples.
+    zi : ndarray, shape (n, s, s)
+        Filter conditions at the first of these samples (from
+        :func:`initial_conditions` or a previous call); overwritten with those
+        after the last sample, so that the next call continues the run.
+    components : tuple of int
+        State components to compute (others are left untouched in ``out``).
+    out : ndarray, shape (n, s, L), optional
+        Where to write the states.
+
+    Returns
+    -------
+    ndarray, shape (n, s, L)
+    """
+    n, length = f.shape
+    if out is None:
+        out = np.empty((n, bank.order, length))
+    den, num = bank.den, bank.num_total
+    for i in range(n):  # one C-speed filter per mode and state component
+        for c in components:
+            out[i, c], zi[i, c] = lfilter(num[i, c], den[i], f[i], zi=zi[i, c])
+    return out
+
+
 def filter_states(
     A: np.ndarray, B0: np.ndarray, B1: np.ndarray, x0: np.ndarray, f: np.ndarray
 ) -> np.ndarray:
     """States of ``x[k+1] = A x[k] + B0 f[k] + B1 f[k+1]``, one scalar load per system.
 
-    For a stack of n independent systems (one per mode). With ``y = x − B1 f`` the
-    recurrence is ``y[k+1] = A y[k] + B f[k]``, ``B = A B1 + B0``. Each state
-    component is a rational filter of ``f`` whose denominator is the characteristic
-    polynomial of ``A``; the free response from ``y[0]`` is folded into the filter
-    input as the impulse response of ``(zI − A)⁻¹ y[0]``. One ``lfilter`` call per
-    system runs all its components at C speed.
+    For a stack of n independent systems (one per mode), by :class:`FilterBank`.
 
     Parameters
     ----------
@@ -128,18 +236,6 @@ def filter_states(
     ndarray, shape (n, s, N)
         x[0] … x[N − 1] of each system, component by component.
     """
-    n, s, _ = A.shape
-    N = f.shape[1]
-    den = characteristic_polynomials(A)
-    num_f = transfer_numerators(A, np.einsum("nij,nj->ni", A, B1) + B0, den)
-    num_0 = transfer_numerators(A, x0 - B1 * f[:, :1], den)
-    # FIR part: W[:, k, i] = sum_j num_f[:, k, j] f[:, i - j].
-    W = num_f[:, :, :1] * f[:, None, :]
-    for j in range(1, s + 1):
-        W[:, :, j:] += num_f[:, :, j, None] * f[:, None, : N - j]
-    m = min(s, N)
-    W[:, :, :m] += num_0[:, :, 1 : m + 1]
-    for i in range(n):
-        W[i] = lfilter([1.0], den[i], W[i], axis=1)
-    W += B1[:, :, None] * f[:, None, :]
-    return W
+    bank = filter_bank(A, B0, B1)
+    zi = initial_conditions(bank, x0, f[:, 0])
+    return run_filters(bank, f, zi, tuple(range(bank.order)))
