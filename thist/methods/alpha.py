@@ -137,8 +137,46 @@ class _AlphaFamily(Method):
         return Solution(u, v, a)
 
 
+# LAPACK banded Cholesky (factor, solve with factor); called directly because the
+# scipy wrappers cost more than a small tridiagonal solve.
+_PBTRF, _PBTRS = sla.get_lapack_funcs(("pbtrf", "pbtrs"), dtype=np.float64)
+
+
+def banded_form(A: np.ndarray) -> np.ndarray | None:
+    """Upper banded form (2, n) of a symmetric tridiagonal matrix, else None.
+
+    Chain models (shear buildings) have tridiagonal M, C and K, hence a
+    tridiagonal effective matrix; scipy.linalg.solveh_banded's layout is used
+    (row 0: super-diagonal, first entry unused; row 1: diagonal).
+    """
+    n = A.shape[0]
+    if n < 3 or not np.array_equal(A, A.T):
+        return None
+    if np.any(np.triu(A, 2)):
+        return None
+    ab = np.zeros((2, n))
+    ab[0, 1:] = np.diagonal(A, 1)
+    ab[1] = np.diagonal(A)
+    return ab
+
+
 def _factorise(A: np.ndarray):
-    """Return a solver for A x = b: Cholesky if A is SPD, LU otherwise."""
+    """Return a solver for A x = b, factorised once.
+
+    Banded Cholesky (LAPACK pbtrf/pbtrs, as scipy.linalg.cho_solve_banded) for a
+    symmetric positive definite tridiagonal matrix (chain models); dense
+    Cholesky for other SPD matrices; LU otherwise.
+    """
+    ab = banded_form(A)
+    if ab is not None:
+        factor, info = _PBTRF(ab)
+        if info == 0:
+
+            def solve_banded(b: np.ndarray) -> np.ndarray:
+                x, info = _PBTRS(factor, b)
+                return x
+
+            return solve_banded
     if np.allclose(A, A.T, rtol=1e-12, atol=0.0):
         try:
             cf = sla.cho_factor(A)

@@ -871,62 +871,22 @@ def integrate_inelastic(
     ConvergenceError
         A step of an implicit method that did not converge after the halvings.
     """
-    options = SolverOptions() if options is None else options
-    options.check()
-    if isinstance(method, str):
-        method = get_method(method)
-    m = np.asarray(masses, dtype=float)
-    if m.ndim != 1 or m.size != springs.n:
-        raise InputError(f"must be one mass per story ({springs.n}), got shape {m.shape}", "masses")
-    bad = np.flatnonzero(~(np.isfinite(m) & (m > 0.0)))
-    if bad.size:
-        raise InputError(f"must be a finite mass > 0 kg, got {m[bad[0]]!r}", f"masses[{bad[0]}]")
-    n = m.size
-    ag = np.asarray(ag, dtype=float)
-    if ag.ndim != 1 or ag.size < 2 or not np.all(np.isfinite(ag)):
-        raise InputError("must be at least two finite accelerations", "ag")
-    if not (math.isfinite(dt) and dt > 0.0):
-        raise InputError(f"must be a finite time step > 0 s, got {dt!r}", "dt")
-    a0, a1 = (float(x) for x in rayleigh)
-    if not (math.isfinite(a0) and math.isfinite(a1) and a0 >= 0.0 and a1 >= 0.0):
-        raise InputError(
-            f"Rayleigh coefficients must be finite and >= 0, got {rayleigh!r}", "rayleigh"
-        )
-    if damping not in DAMPING_CHOICES:
-        raise InputError(f"must be one of {', '.join(DAMPING_CHOICES)}, got {damping!r}", "damping")
-    if not (math.isfinite(free_vibration_tail) and free_vibration_tail >= 0.0):
-        raise InputError(
-            f"must be a duration >= 0 s, got {free_vibration_tail!r}", "free_vibration_tail"
-        )
-    u0 = _initial(u0, n, "u0")
-    v0 = _initial(v0, n, "v0")
-    method.check_parameters()
-
-    n_tail = int(round(free_vibration_tail / dt))
-    ag = np.concatenate([ag, np.zeros(n_tail)])
-    n_steps = ag.size
-    p = -np.outer(ag, m)
+    run = prepare_run(
+        masses, springs, ag, dt, method, rayleigh, damping, options, u0, v0, free_vibration_tail
+    )
+    method, m, ag, n_steps = run.method, run.masses, run.ag, run.ag.size
+    a0, a1, options, u0, v0, bound = run.a0, run.a1, run.options, run.u0, run.v0, run.bound
     k0 = springs.stiffness
-    omega_max = _omega_max(m, k0)
-    dt_cr = method.stability_limit(omega_max, 0.0)
-    if dt > dt_cr:
-        raise StabilityError(
-            f"{method.name}: time step {dt:.4g} s exceeds the stability limit {dt_cr:.4g} s "
-            f"set by the highest mode of the initial stiffness (T = {2 * math.pi / omega_max:.4g} "
-            f"s); use a step of at most {0.9 * dt_cr:.4g} s"
-        )
-    bound = growth_bound(np.diag(m), chain_stiffness(k0), p, u0, v0, omega_max, n_steps * dt)
-
-    check_inelastic_method(method)
     if use_compiled(compiled):
-        scale = float(np.max(np.abs(p)))
-        run = _CompiledRun(method, m, springs, a0, a1, damping, options, scale, bound, dt, n_steps)
-        core = _compiled_histories(run, ag, m, u0, v0)
-        stats = run.stats()
+        compiled_run = run.compiled_run()
+        core = _compiled_histories(compiled_run, ag, m, u0, v0)
+        stats = compiled_run.stats()
     elif isinstance(method, CentralDifference):
+        p = -np.outer(ag, m)
         core = _central_difference(m, springs, p, dt, a0, a1, damping, u0, v0, method.name, bound)
         stats = ConvergenceStats(n_steps - 1, 0, 0, 0, n_steps - 1, 0)
     else:
+        p = -np.outer(ag, m)
         core, stats = _implicit(m, springs, p, dt, method, a0, a1, damping, options, u0, v0, bound)
     u, v, a, shear, work, e_input, e_damping, state, peak_signed, peak_time = core
 
@@ -965,6 +925,134 @@ def integrate_inelastic(
         damping,
         (a0, a1),
         options,
+    )
+
+
+@dataclass(frozen=True, eq=False)
+class PreparedRun:
+    """A validated inelastic run before its first step (see :func:`prepare_run`).
+
+    Attributes
+    ----------
+    method : Method
+    springs : SpringParameters
+    masses : ndarray, shape (n,)
+        Level masses, kg.
+    ag : ndarray, shape (N,)
+        Ground acceleration with the free-vibration tail, m/s².
+    dt : float
+        Time step, s.
+    a0, a1 : float
+        Rayleigh coefficients, 1/s and s.
+    damping : str
+    options : SolverOptions
+    u0, v0 : ndarray, shape (n,)
+        Initial displacement (m) and velocity (m/s).
+    bound : float
+        Displacement no stable run can reach, m (the growth check).
+    force_scale : float
+        Peak effective load |m ü_g| over the record, N.
+    """
+
+    method: Method
+    springs: SpringParameters
+    masses: np.ndarray
+    ag: np.ndarray
+    dt: float
+    a0: float
+    a1: float
+    damping: str
+    options: SolverOptions
+    u0: np.ndarray
+    v0: np.ndarray
+    bound: float
+    force_scale: float
+
+    def compiled_run(self) -> _CompiledRun:
+        """A fresh run of the compiled kernels (numba must be available)."""
+        return _CompiledRun(
+            self.method,
+            self.masses,
+            self.springs,
+            self.a0,
+            self.a1,
+            self.damping,
+            self.options,
+            self.force_scale,
+            self.bound,
+            self.dt,
+            self.ag.size,
+        )
+
+
+def prepare_run(
+    masses: np.ndarray,
+    springs: SpringParameters,
+    ag: np.ndarray,
+    dt: float,
+    method: Method | str = "newmark-average",
+    rayleigh: tuple[float, float] = (0.0, 0.0),
+    damping: str = "initial",
+    options: SolverOptions | None = None,
+    u0: np.ndarray | None = None,
+    v0: np.ndarray | None = None,
+    free_vibration_tail: float = 0.0,
+) -> PreparedRun:
+    """Validate the arguments of :func:`integrate_inelastic` and run its checks.
+
+    Same parameters and errors as :func:`integrate_inelastic`; no step is taken
+    and no (N, n) array is formed.
+    """
+    options = SolverOptions() if options is None else options
+    options.check()
+    if isinstance(method, str):
+        method = get_method(method)
+    m = np.asarray(masses, dtype=float)
+    if m.ndim != 1 or m.size != springs.n:
+        raise InputError(f"must be one mass per story ({springs.n}), got shape {m.shape}", "masses")
+    bad = np.flatnonzero(~(np.isfinite(m) & (m > 0.0)))
+    if bad.size:
+        raise InputError(f"must be a finite mass > 0 kg, got {m[bad[0]]!r}", f"masses[{bad[0]}]")
+    n = m.size
+    ag = np.asarray(ag, dtype=float)
+    if ag.ndim != 1 or ag.size < 2 or not np.all(np.isfinite(ag)):
+        raise InputError("must be at least two finite accelerations", "ag")
+    if not (math.isfinite(dt) and dt > 0.0):
+        raise InputError(f"must be a finite time step > 0 s, got {dt!r}", "dt")
+    a0, a1 = (float(x) for x in rayleigh)
+    if not (math.isfinite(a0) and math.isfinite(a1) and a0 >= 0.0 and a1 >= 0.0):
+        raise InputError(
+            f"Rayleigh coefficients must be finite and >= 0, got {rayleigh!r}", "rayleigh"
+        )
+    if damping not in DAMPING_CHOICES:
+        raise InputError(f"must be one of {', '.join(DAMPING_CHOICES)}, got {damping!r}", "damping")
+    if not (math.isfinite(free_vibration_tail) and free_vibration_tail >= 0.0):
+        raise InputError(
+            f"must be a duration >= 0 s, got {free_vibration_tail!r}", "free_vibration_tail"
+        )
+    u0 = _initial(u0, n, "u0")
+    v0 = _initial(v0, n, "v0")
+    method.check_parameters()
+
+    n_tail = int(round(free_vibration_tail / dt))
+    ag = np.concatenate([ag, np.zeros(n_tail)])
+    n_steps = ag.size
+    # the largest |p| = |ü_g| m over the record, without forming p = −ü_g m (N, n)
+    p_peak = float(np.max(np.abs(ag))) * m[None, :]
+    k0 = springs.stiffness
+    omega_max = _omega_max(m, k0)
+    dt_cr = method.stability_limit(omega_max, 0.0)
+    if dt > dt_cr:
+        raise StabilityError(
+            f"{method.name}: time step {dt:.4g} s exceeds the stability limit {dt_cr:.4g} s "
+            f"set by the highest mode of the initial stiffness (T = {2 * math.pi / omega_max:.4g} "
+            f"s); use a step of at most {0.9 * dt_cr:.4g} s"
+        )
+    bound = growth_bound(np.diag(m), chain_stiffness(k0), p_peak, u0, v0, omega_max, n_steps * dt)
+    check_inelastic_method(method)
+    force_scale = float(np.max(p_peak))
+    return PreparedRun(
+        method, springs, m, ag, dt, a0, a1, damping, options, u0, v0, bound, force_scale
     )
 
 
