@@ -99,3 +99,19 @@ def test_banded_direct_path_equals_the_dense_direct_path_for_nonclassical_dampin
     dense = m.integrate(s.M, C, s.K, p[:1500], 0.005)
     for a, b in ((dense.u, banded.u), (dense.v, banded.v), (dense.a, banded.a)):
         assert np.max(np.abs(a - b)) < 1e-10 * np.max(np.abs(a))
+
+
+def test_modal_filters_call_the_same_routine_as_scipy_lfilter():
+    """The filters call lfilter's C routine directly (without its argument checks); the
+    output and final conditions must be those of scipy.signal.lfilter, bit for bit."""
+    from scipy.signal import lfilter
+
+    from thist.methods.recurrence import _filter
+
+    rng = np.random.default_rng(2)
+    b, a = np.array([0.0, 0.3, -0.1, 0.05]), np.array([1.0, -1.7, 0.8, -0.02])
+    x, zi = rng.standard_normal(500), rng.standard_normal(3)
+    y, zf = _filter(b, a, x, zi)
+    y_ref, zf_ref = lfilter(b, a, x, zi=zi)
+    np.testing.assert_array_equal(y, y_ref)
+    np.testing.assert_array_equal(zf, zf_ref)

@@ -1015,7 +1015,9 @@ def prepare_run(
         raise InputError(f"must be a finite mass > 0 kg, got {m[bad[0]]!r}", f"masses[{bad[0]}]")
     n = m.size
     ag = np.asarray(ag, dtype=float)
-    if ag.ndim != 1 or ag.size < 2 or not np.all(np.isfinite(ag)):
+    # min and max carry any nan or inf, without an (N,) temporary
+    finite = ag.size > 0 and math.isfinite(float(ag.min())) and math.isfinite(float(ag.max()))
+    if ag.ndim != 1 or ag.size < 2 or not finite:
         raise InputError("must be at least two finite accelerations", "ag")
     if not (math.isfinite(dt) and dt > 0.0):
         raise InputError(f"must be a finite time step > 0 s, got {dt!r}", "dt")
@@ -1035,10 +1037,11 @@ def prepare_run(
     method.check_parameters()
 
     n_tail = int(round(free_vibration_tail / dt))
-    ag = np.concatenate([ag, np.zeros(n_tail)])
+    if n_tail:
+        ag = np.concatenate([ag, np.zeros(n_tail)])
     n_steps = ag.size
     # the largest |p| = |ü_g| m over the record, without forming p = −ü_g m (N, n)
-    p_peak = float(np.max(np.abs(ag))) * m[None, :]
+    p_peak = max(float(ag.max()), -float(ag.min())) * m[None, :]
     k0 = springs.stiffness
     omega_max = _omega_max(m, k0)
     dt_cr = method.stability_limit(omega_max, 0.0)
