@@ -35,7 +35,8 @@ Numerical period error and algorithmic damping are computed, for any
 Ω = ωΔt, from the eigenvalues of the amplification matrix ``A`` (not from
 small-Ω series): the principal pair λ = exp(Ω̄(−ξ̄ ± i)) gives the numerical
 frequency Ω̄ = |arg λ| and damping ratio ξ̄ = −ln|λ| / Ω̄ (Hughes, *The Finite
-Element Method*, 1987, §9.3).
+Element Method*, 1987, §9.3), compared with the same measures of the exact damped
+root exp(Ω(−ζ ± i√(1−ζ²))), so that the exact solution has neither error at any ζ.
 """
 
 from __future__ import annotations
@@ -82,9 +83,11 @@ class SpectralProperties:
         Ω̄ = ω̄Δt of the principal root pair; nan when the roots are real
         (the method no longer oscillates at this Ω).
     period_error : float
-        T̄/T − 1 (positive = period elongation); nan when the roots are real.
+        T̄/T_D − 1 against the exact damped period T_D = T/√(1−ζ²) (positive =
+        period elongation); nan when the roots are real.
     algorithmic_damping : float
-        ξ̄ of the principal root pair minus the physical damping ratio ζ.
+        ξ̄ = −ln|λ|/Ω̄ of the principal root pair minus the same measure of the
+        exact damped root, ζ/√(1−ζ²) (= 0 for an exact method at any ζ).
     """
 
     omega_dt: float
@@ -261,12 +264,23 @@ def spectral_properties(method: Method, omega_dt: float, zeta: float = 0.0) -> S
     if complex_roots.size == 0:
         return SpectralProperties(omega_dt, rho, math.nan, math.nan, math.nan)
     principal = complex_roots[np.argmax(np.abs(complex_roots))]
-    wbar = abs(math.atan2(principal.imag, principal.real))
-    xibar = -math.log(abs(principal)) / wbar
-    # The damped exact system oscillates at ω√(1−ζ²) with ratio ζ; the numerical
-    # root pair is compared with the undamped period T = 2π/ω, as is customary.
-    period_error = omega_dt / wbar - 1.0
-    return SpectralProperties(omega_dt, rho, wbar, period_error, xibar - zeta)
+    return _from_log_root(omega_dt, zeta, rho, complex(np.log(principal)))
+
+
+def _from_log_root(omega_dt: float, zeta: float, rho: float, log_root: complex):
+    """Spectral properties from ln λ of the principal root.
+
+    With λ = exp(Ω̄(−ξ̄ ± i)) (Hughes 1987, §9.3), Ω̄ = |Im ln λ| and
+    ξ̄ = −Re ln λ / Ω̄. The exact damped oscillator, ln λ = Ω(−ζ ± i√(1−ζ²)), reads
+    Ω̄ = Ω√(1−ζ²) and ξ̄ = ζ/√(1−ζ²) that way; the numerical root is compared with
+    those, so the exact solution shows no period error and no algorithmic damping
+    at any ζ, and at ζ = 0 the values are Hughes' own.
+    """
+    wbar = abs(log_root.imag)
+    xibar = -log_root.real / wbar
+    root = math.sqrt(max(1.0 - zeta * zeta, 1e-300))
+    period_error = omega_dt * root / wbar - 1.0
+    return SpectralProperties(omega_dt, rho, wbar, period_error, xibar - zeta / root)
 
 
 def check_finite_growth(u_block: np.ndarray, bound: float, t: float, method: str) -> None:

@@ -37,6 +37,7 @@ from thist.methods.base import (
     Method,
     Solution,
     SpectralProperties,
+    _from_log_root,
     check_finite_growth,
     growth_bound,
 )
@@ -131,9 +132,8 @@ class Exact(Method):
         Φ = exp(AΔt), so the logarithms of its eigenvalues are the eigenvalues of
         AΔt, free of the 2π ambiguity of arg λ that aliases Ω > π. The values
         follow the convention of :func:`thist.methods.base.spectral_properties`
-        (numerical root compared with the undamped period): zero period error and
-        zero algorithmic damping at ζ = 0, and at ζ > 0 only the physical shift
-        1/√(1−ζ²) − 1 of the damped root that the convention includes.
+        (numerical root compared with the exact damped root): zero period error and
+        zero algorithmic damping at every ζ.
 
         Parameters
         ----------
@@ -147,10 +147,8 @@ class Exact(Method):
         rho = float(np.max(np.exp(s.real)))
         if np.all(np.abs(s.imag) <= 1e-12 * max(omega_dt, 1e-300)):
             return SpectralProperties(omega_dt, rho, math.nan, math.nan, math.nan)
-        principal = s[np.argmax(np.abs(s.imag))]
-        wbar = abs(float(principal.imag))
-        xibar = -float(principal.real) / wbar
-        return SpectralProperties(omega_dt, rho, wbar, omega_dt / wbar - 1.0, xibar - zeta)
+        principal = complex(s[np.argmax(np.abs(s.imag))])
+        return _from_log_root(omega_dt, zeta, rho, principal)
 
     def initial_state(self, m, c, k, dt):
         # The state is (u, v) itself.
