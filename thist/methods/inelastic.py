@@ -103,7 +103,6 @@ import scipy.linalg as sla
 from thist.energy import EnergyBalance
 from thist.errors import InputError, StabilityError
 from thist.methods import get_method
-from thist.methods import inelastic_kernel as _kernel
 from thist.methods.alpha import HHT, GeneralizedAlpha, Newmark
 from thist.methods.base import Method, Solution, check_finite_growth, growth_bound
 from thist.methods.central_difference import CentralDifference
@@ -595,6 +594,13 @@ class _ImplicitRun:
 # -- the compiled path (thist.methods.inelastic_kernel) -----------------------------------
 
 
+def _kernel():
+    """The compiled kernels' module, imported (with numba) on first use only."""
+    from thist.methods import inelastic_kernel
+
+    return inelastic_kernel
+
+
 def use_compiled(compiled: bool | None) -> bool:
     """Whether a run uses the compiled kernels.
 
@@ -605,8 +611,8 @@ def use_compiled(compiled: bool | None) -> bool:
         set); True: require them; False: the pure-numpy path.
     """
     if compiled is None:
-        return _kernel.AVAILABLE
-    if compiled and not _kernel.AVAILABLE:
+        return _kernel().AVAILABLE
+    if compiled and not _kernel().AVAILABLE:
         raise InputError(
             "the compiled kernels need numba (pip install 'thist[fast]'), and "
             "THIST_NO_NUMBA must not be set",
@@ -655,11 +661,11 @@ class _CompiledRun:
         self.bound = bound
         self.dt = dt
         self.n_steps = n_steps
-        self.springs = _kernel.initial_springs(self.k, springs.yield_drift)
-        self.trial = np.zeros((_kernel.N_TRIAL_ROWS, n))
+        self.springs = _kernel().initial_springs(self.k, springs.yield_drift)
+        self.trial = np.zeros((_kernel().N_TRIAL_ROWS, n))
         self.state = np.zeros((5, n))
-        self.counters = np.zeros(len(_kernel.COUNTER_NAMES))
-        self.counters[_kernel.COUNTER_NAMES.index("block_finite")] = 1.0
+        self.counters = np.zeros(len(_kernel().COUNTER_NAMES))
+        self.counters[_kernel().COUNTER_NAMES.index("block_finite")] = 1.0
         self.peaks = np.zeros((2, n))
         self.err = np.zeros(4 + n)
         if not self.explicit:
@@ -667,13 +673,13 @@ class _CompiledRun:
 
     def counter(self, name: str) -> float:
         """A counter of the run (see ``inelastic_kernel.COUNTER_NAMES``)."""
-        return float(self.counters[_kernel.COUNTER_NAMES.index(name)])
+        return float(self.counters[_kernel().COUNTER_NAMES.index(name)])
 
     def start(self, u0: np.ndarray, v0: np.ndarray, ag0: float) -> None:
         """Commit the springs at u0 and set the first state (v0 the initial velocity)."""
         p0 = -(ag0 * self.m)
         args = (self.m, self.k, self.fy, self.alpha, self.hard, self.codes, self.a0, self.a1)
-        _kernel.implicit_start(
+        _kernel().implicit_start(
             *args, self.tangent, self.springs, self.trial, self.state, u0, v0, p0
         )
         drift = self.springs[0]
@@ -689,10 +695,10 @@ class _CompiledRun:
         else:
             self.peaks[0] = np.where(np.abs(drift) > 0.0, drift, 0.0)
         block = np.abs(u0)
-        i_max = _kernel.COUNTER_NAMES.index("block_max")
+        i_max = _kernel().COUNTER_NAMES.index("block_max")
         self.counters[i_max] = float(block.max()) if np.all(np.isfinite(block)) else 0.0
         if not np.all(np.isfinite(u0)):
-            self.counters[_kernel.COUNTER_NAMES.index("block_finite")] = 0.0
+            self.counters[_kernel().COUNTER_NAMES.index("block_finite")] = 0.0
 
     def run(
         self,
@@ -717,7 +723,7 @@ class _CompiledRun:
         chunk = (ag, i0, self.n_steps, u, v, a, shear, scalars)
         if self.explicit:
             kernel_args = (self.dt, *args, self.tangent, *run_state, *chunk, f_damp, self.err)
-            status, _ = _kernel.central_chunk(*kernel_args)
+            status, _ = _kernel().central_chunk(*kernel_args)
         else:
             o = self.options
             solver = (
@@ -729,15 +735,15 @@ class _CompiledRun:
                 self.force_scale,
             )
             kernel_args = (self.coef, self.dt, *args, self.tangent, *solver, *run_state)
-            status, _ = _kernel.implicit_chunk(*kernel_args, *chunk, self.err)
-        if status == _kernel.OK:
+            status, _ = _kernel().implicit_chunk(*kernel_args, *chunk, self.err)
+        if status == _kernel().OK:
             return
         e = self.err
-        if status == _kernel.NOT_CONVERGED:
+        if status == _kernel().NOT_CONVERGED:
             raise _convergence_error(
                 name, float(e[0]), float(e[1]), int(e[2]), int(e[3]), e[4:].copy()
             )
-        if status == _kernel.NOT_POSITIVE:
+        if status == _kernel().NOT_POSITIVE:
             raise np.linalg.LinAlgError(
                 f"effective tangent not positive definite (info {int(e[1])})"
             )
@@ -749,7 +755,7 @@ class _CompiledRun:
     def spring_state(self) -> SpringState:
         """The committed spring state as a :class:`~thist.springs.SpringState`."""
         state = self.params.new_state()
-        _kernel.unpack_springs(self.springs, state)
+        _kernel().unpack_springs(self.springs, state)
         return state
 
     def stats(self) -> ConvergenceStats:
@@ -874,7 +880,8 @@ def integrate_inelastic(
     run = prepare_run(
         masses, springs, ag, dt, method, rayleigh, damping, options, u0, v0, free_vibration_tail
     )
-    method, m, ag, n_steps = run.method, run.masses, run.ag, run.ag.size
+    method, m, n_steps = run.method, run.masses, run.ag.size
+    ag = run.ag.copy()  # the solution owns its record (the caller's array may change)
     a0, a1, options, u0, v0, bound = run.a0, run.a1, run.options, run.u0, run.v0, run.bound
     k0 = springs.stiffness
     if use_compiled(compiled):
