@@ -18,6 +18,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from thist import __version__, cautions
+from thist.batch import command as study_command
 from thist.errors import InputError, StabilityError
 
 Handler = Callable[[argparse.Namespace], int]
@@ -310,6 +311,7 @@ COMMANDS: dict[str, tuple[Handler, str]] = {
         "write a synthetic record (Kanai-Tajimi filtered noise) for demonstrations and trial "
         "runs; synthetic motions are not a substitute for recorded motions selected for the site",
     ),
+    "study": (study_command.cmd_study, study_command.HELP),
 }
 
 
@@ -362,6 +364,8 @@ def build_parser() -> argparse.ArgumentParser:
             _spectrum_arguments(sp)
         if name == "synth":
             _synth_arguments(sp)
+        if name == "study":
+            study_command.add_arguments(sp)
         if name == "verify":
             sp.add_argument(
                 "-o",
