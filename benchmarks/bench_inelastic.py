@@ -22,10 +22,10 @@ import os
 import subprocess
 import sys
 import tempfile
-import time
 
 import numpy as np
 
+from benchmarks.timing import best_of
 from thist.methods.inelastic import integrate_inelastic
 from thist.methods.inelastic_kernel import AVAILABLE
 from thist.springs import bilinear
@@ -71,16 +71,6 @@ def first_call_times(cache_dir: str) -> tuple[float, float, float]:
     )
     a, b, c = (float(x) for x in out.stdout.split())
     return a, b, c
-
-
-def best_of(fn, repeat: int):
-    """Smallest wall time of ``repeat`` calls, s, and the last result."""
-    best, out = np.inf, None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t0)
-    return best, out
 
 
 def main() -> None:

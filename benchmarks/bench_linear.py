@@ -23,12 +23,11 @@ the package, see benchmarks/__init__.py).
 
 from __future__ import annotations
 
-import time
-
 import numpy as np
 from scipy.integrate import solve_ivp
 
 import thist
+from benchmarks.timing import best_of
 from thist.analysis import integrate_linear
 from thist.damping import rayleigh
 from thist.methods import get_method
@@ -57,16 +56,6 @@ def textbook_newmark(M, C, K, p, dt, beta=0.25, gamma=0.5):
             (u[i + 1] - u[i]) / (beta * dt * dt) - v[i] / (beta * dt) - (1 / (2 * beta) - 1) * a[i]
         )
     return u
-
-
-def best_of(fn, repeat=5):
-    """Smallest wall time of ``repeat`` calls, s, and the last result."""
-    best, out = np.inf, None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t0)
-    return best, out
 
 
 def problem(n=10, n_steps=10_000, dt=0.005, seed=1):
