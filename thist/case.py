@@ -303,26 +303,12 @@ def load_case(path: str | Path) -> Case:
         the file, the field and the problem.
     """
     path = Path(path)
-    fname = path.name
-    if not path.is_file():
-        raise InputError("case file not found", None, str(path))
-    data = path.read_bytes()
-    try:
-        text = data.decode("utf-8")
-        doc = tomllib.loads(text)
-    except UnicodeDecodeError:
-        raise InputError("not UTF-8 text", None, fname) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML: {exc}", None, fname) from None
-    top = _Table(doc, "", fname)
+    data, text, doc = read_toml(path, "case")
+    top = _Table(doc, "", path.name)
     title = top.string("title")
     notes = top.string("notes", "")
-    structure = _structure(top.table("structure"), fname)
-    damping = _damping(top.table("damping", {"model": "none"}), structure.n)
+    structure, damping, analysis, checks, display = parse_model_tables(top)
     record = parse_record(top.table("record"), path.parent)
-    analysis = _analysis(top.table("analysis"))
-    checks = _checks(top.table("checks", {}))
-    display = _display(top.table("display", {}))
     top.finish()
     return Case(
         str(path),
@@ -338,6 +324,36 @@ def load_case(path: str | Path) -> Case:
         checks,
         display,
     )
+
+
+def read_toml(path: Path, what: str) -> tuple[bytes, str, dict[str, Any]]:
+    """The bytes, text and parsed TOML of a ``what`` file ("case", "study"), or an InputError."""
+    if not path.is_file():
+        raise InputError(f"{what} file not found", None, str(path))
+    data = path.read_bytes()
+    try:
+        text = data.decode("utf-8")
+        return data, text, tomllib.loads(text)
+    except UnicodeDecodeError:
+        raise InputError("not UTF-8 text", None, path.name) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {exc}", None, path.name) from None
+
+
+def parse_model_tables(
+    top: _Table,
+) -> tuple[Structure, DampingSpec, AnalysisSpec, CheckSpec, DisplayUnits]:
+    """The model tables of a case: structure, damping, analysis, checks and display.
+
+    Case files and study files with inline tables share this reader, so both take
+    the same keys and give the same errors.
+    """
+    structure = _structure(top.table("structure"), top.file)
+    damping = _damping(top.table("damping", {"model": "none"}), structure.n)
+    analysis = _analysis(top.table("analysis"))
+    checks = _checks(top.table("checks", {}))
+    display = _display(top.table("display", {}))
+    return structure, damping, analysis, checks, display
 
 
 def _matrix(t: _Table, key: str, dimension: str) -> np.ndarray:

@@ -39,3 +39,16 @@ INELASTIC = (
     "(yield force, post-yield stiffness, hysteresis rules) and to the damping model "
     "with yielding springs; treat ductility and residual drift as indicative."
 )
+
+#: Added wherever fragility functions are shown.
+FRAGILITY = (
+    "Fragility functions depend on the record set (its number, selection and scaling), on "
+    "the structural model and on the damage-state thresholds; with few records the fitted "
+    "median and dispersion are uncertain. Use them as a preliminary estimate only."
+)
+
+#: Said wherever synthetic records are made or described.
+SYNTHETIC = (
+    "Synthetic motions are not a substitute for recorded motions selected for the site; "
+    "use them for demonstrations and trial runs only."
+)

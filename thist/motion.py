@@ -10,6 +10,7 @@ results and the report.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from functools import cached_property
 
 import numpy as np
 
@@ -39,17 +40,26 @@ class GroundMotion:
     scaling : ScalingResult or None
         The scaling to the user's target, if the case asks for it.
     intensity : IntensityMeasures
-        Of the analysed record.
+        Of the analysed record (computed when first asked for).
     spectrum : Spectrum
-        5 %-damped response spectrum of the analysed record.
+        5 %-damped response spectrum of the analysed record (computed when first
+        asked for: studies that only need peaks never pay for it).
     """
 
     raw: Record
     record: Record
     processing: tuple[ProcessingStep, ...]
     scaling: ScalingResult | None
-    intensity: IntensityMeasures
-    spectrum: Spectrum
+
+    @cached_property
+    def intensity(self) -> IntensityMeasures:
+        """Intensity measures and durations of the analysed record."""
+        return intensity_measures(self.record.ag, self.record.dt)
+
+    @cached_property
+    def spectrum(self) -> Spectrum:
+        """5 %-damped response spectrum of the analysed record."""
+        return response_spectrum(self.record.ag, self.record.dt, damping=SPECTRUM_DAMPING)
 
 
 def prepare_motion(spec: RecordSpec, t1: float) -> GroundMotion:
@@ -83,11 +93,4 @@ def prepare_motion(spec: RecordSpec, t1: float) -> GroundMotion:
             damping=spec.scaling.damping,
         )
     record = replace(raw, ag=np.asarray(ag, dtype=float), dt=float(dt))
-    return GroundMotion(
-        raw,
-        record,
-        tuple(log),
-        scaling,
-        intensity_measures(record.ag, dt),
-        response_spectrum(record.ag, dt, damping=SPECTRUM_DAMPING),
-    )
+    return GroundMotion(raw, record, tuple(log), scaling)

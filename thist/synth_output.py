@@ -14,6 +14,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+from thist import cautions
 from thist.errors import InputError
 from thist.intensity import intensity_measures
 from thist.synthetic import (
@@ -36,10 +37,7 @@ __all__ = [
 ]
 
 #: Said by the help, the terminal output and the record header alike.
-SYNTHETIC_CAUTION = (
-    "Synthetic motions are not a substitute for recorded motions selected for the site; "
-    "use them for demonstrations and trial runs only."
-)
+SYNTHETIC_CAUTION = cautions.SYNTHETIC
 
 #: Envelope names of the command.
 ENVELOPES = ("saragoni-hart", "trapezoid", "none")

@@ -23,15 +23,12 @@ import numpy as np
 from scipy.optimize import minimize
 from scipy.special import log_ndtr
 
+from thist import cautions
 from thist.batch.stats import IdaCurves
 from thist.batch.study import Study
 
 #: Caution shown beside every fragility result (report and terminal).
-CAUTION = (
-    "Fragility functions depend on the record set (its number, selection and scaling), on "
-    "the structural model and on the damage-state thresholds; with few records the fitted "
-    "median and dispersion are uncertain. Use them as a preliminary estimate only."
-)
+CAUTION = cautions.FRAGILITY
 
 #: Search bounds of the dispersion β.
 BETA_BOUNDS = (0.01, 5.0)

@@ -15,14 +15,22 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import math
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from thist import case as _case
-from thist.case import Case, MethodSpec, RecordSpec, _Table, parse_method_entry, parse_record
+from thist.case import (
+    Case,
+    MethodSpec,
+    RecordSpec,
+    _Table,
+    parse_method_entry,
+    parse_model_tables,
+    parse_record,
+    read_toml,
+)
 from thist.errors import InputError
 from thist.modal import modal
 from thist.units import parse_unit
@@ -166,18 +174,8 @@ def load_study(path: str | Path) -> Study:
         message names the file, the field and the problem.
     """
     path = Path(path)
-    fname = path.name
-    if not path.is_file():
-        raise InputError("study file not found", None, str(path))
-    data = path.read_bytes()
-    try:
-        text = data.decode("utf-8")
-        doc = tomllib.loads(text)
-    except UnicodeDecodeError:
-        raise InputError("not UTF-8 text", None, fname) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML: {exc}", None, fname) from None
-    top = _Table(doc, "", fname)
+    data, text, doc = read_toml(path, "study")
+    top = _Table(doc, "", path.name)
     title = top.string("title")
     notes = top.string("notes", "")
     kind = top.string("kind", choices=KINDS)
@@ -292,11 +290,7 @@ def _structure_case(
         raise top.error("case", "give case = FILE, or the [structure] and [analysis] tables")
     # The same readers as a case file, so inline tables take the same keys and give
     # the same errors.
-    structure = _case._structure(top.table("structure"), top.file)
-    damping = _case._damping(top.table("damping", {"model": "none"}), structure.n)
-    analysis = _case._analysis(top.table("analysis"))
-    checks = _case._checks(top.table("checks", {}))
-    display = _case._display(top.table("display", {}))
+    structure, damping, analysis, checks, display = parse_model_tables(top)
     title, notes, text = texts
     case = Case(
         str(path),
