@@ -18,15 +18,17 @@ import os
 import socket
 import time
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 
-from thist.analysis import run_case
+from thist.analysis import prepare, run_case
 from thist.batch.study import IdaSpec, Study
 from thist.case import Case, MethodSpec, RecordSpec
 from thist.errors import InputError, StabilityError
+from thist.motion import GroundMotion
+from thist.peaks import inelastic_peaks, linear_peaks
 from thist.processing import apply_steps
+from thist.response import Peak, Response
 from thist.spectrum import response_spectrum
 
 #: Outcome statuses: the run finished; it collapsed (non-convergence or the IDA's
@@ -215,14 +217,63 @@ def _ida_spec(spec: RecordSpec, level: float, ida: IdaSpec) -> tuple[RecordSpec,
     return RecordSpec(record, (), None), raw.scale * factor
 
 
-def _peaks_dict(response: Any) -> dict[str, dict[str, list[float]]]:
+def _peaks_dict(peaks: dict[str, Peak]) -> dict[str, dict[str, list[float]]]:
     return {
         name: {
             "values": np.atleast_1d(p.values).astype(float).tolist(),
             "times": np.atleast_1d(p.times).astype(float).tolist(),
         }
-        for name, p in response.peaks().items()
+        for name, p in peaks.items()
     }
+
+
+@dataclass(frozen=True)
+class _JobRun:
+    """What a job keeps of its run: peaks (and the response only if histories are kept)."""
+
+    motion: GroundMotion
+    refused: tuple[str, ...]
+    peaks: dict[str, Peak]
+    balance_error: float | None
+    response: Response | None = None
+
+
+def _run(case: Case, keep_histories: bool) -> _JobRun:
+    """Run the case's one method: full histories if kept, else peaks only.
+
+    Peaks-only runs (:mod:`thist.peaks`) keep memory independent of the record
+    length and give the same peaks as the full run to round-off; they carry no
+    energy balance.
+    """
+    if keep_histories:
+        result = run_case(case, refuse=False)
+        run = result.runs[0]
+        refused = tuple(c.message for c in run.checks.checks if c.verdict == "refused")
+        if run.response is None:
+            return _JobRun(result.motion, refused, {}, None)
+        balance = None if run.energy is None else float(run.energy.balance_error)
+        return _JobRun(result.motion, (), run.response.peaks(), balance, run.response)
+    pre = prepare(case)
+    checks = pre.checks[0]
+    if checks.refused:
+        refused = tuple(c.message for c in checks.checks if c.verdict == "refused")
+        return _JobRun(pre.motion, refused, {}, None)
+    method, s, ag, dt = pre.specs[0].method, case.structure, pre.excitation.ag, pre.excitation.dt
+    if s.is_linear:
+        peaks = linear_peaks(method, s, pre.damping, pre.modes, ag, dt).peaks
+    else:
+        settings = case.analysis.inelastic
+        peaks = inelastic_peaks(
+            s,
+            s.springs,
+            ag,
+            dt,
+            method,
+            rayleigh=(pre.damping.alpha_mass, pre.damping.beta_stiffness),
+            damping=settings.damping,
+            options=settings.options,
+        ).peaks
+    return _JobRun(pre.motion, (), peaks, None)
 
 
 def run_job(ctx: StudyContext, job: Job) -> JobOutcome:
@@ -262,8 +313,9 @@ def run_job(ctx: StudyContext, job: Job) -> JobOutcome:
             motion=spec,
             analysis=dataclasses.replace(ctx.case.analysis, methods=(mspec,)),
         )
+        keep = job.record_index in ctx.keep_histories
         try:
-            result = run_case(case, refuse=False)
+            run = _run(case, keep)
         except StabilityError as exc:
             return JobOutcome(
                 **{**blank, "scale_factor": factor},
@@ -271,21 +323,22 @@ def run_job(ctx: StudyContext, job: Job) -> JobOutcome:
                 error=f"did not converge: {exc}",
                 elapsed=time.perf_counter() - start,
             )
-        run = result.runs[0]
-        if run.response is None:
-            refused = [c.message for c in run.checks.checks if c.verdict == "refused"]
+        if run.refused:
             return JobOutcome(
                 **{**blank, "scale_factor": factor},
                 status="failed",
-                error="time step refused: " + "; ".join(refused),
+                error="time step refused: " + "; ".join(run.refused),
                 elapsed=time.perf_counter() - start,
             )
-        motion = result.motion
-        assert motion is not None
+        motion = run.motion
         if factor is None:
             factor = spec.record.scale * (motion.scaling.factor if motion.scaling else 1.0)
-        resp = run.response
-        dr = None if resp.drift_ratio is None else float(np.max(np.abs(resp.drift_ratio)))
+        peaks = run.peaks
+        dr = (
+            None
+            if "drift_ratio" not in peaks
+            else float(np.max(np.abs(peaks["drift_ratio"].values)))
+        )
         status, error = "ok", ""
         ida = ctx.ida
         if ida is not None and ida.collapse_drift_ratio is not None and dr is not None:
@@ -296,7 +349,8 @@ def run_job(ctx: StudyContext, job: Job) -> JobOutcome:
                     f"{ida.collapse_drift_ratio:.4g}"
                 )
         histories = None
-        if job.record_index in ctx.keep_histories:
+        if keep:
+            resp = run.response
             histories = {"t": np.asarray(resp.t, dtype=float), "ag": np.asarray(resp.ag)}
             for name in HISTORY_NAMES:
                 x = resp.history(name)
@@ -311,8 +365,8 @@ def run_job(ctx: StudyContext, job: Job) -> JobOutcome:
             pga=float(np.max(np.abs(rec.ag))),
             psa_t1=_psa(rec.ag, rec.dt, ctx.t1),
             peak_drift_ratio=dr,
-            balance_error=None if run.energy is None else float(run.energy.balance_error),
-            peaks=_peaks_dict(resp),
+            balance_error=run.balance_error,
+            peaks=_peaks_dict(peaks),
             error=error,
             elapsed=time.perf_counter() - start,
             worker=worker,
