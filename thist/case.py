@@ -307,9 +307,23 @@ def load_case(path: str | Path) -> Case:
     top = _Table(doc, "", path.name)
     title = top.string("title")
     notes = top.string("notes", "")
-    structure, damping, analysis, checks, display = parse_model_tables(top)
+    tables = parse_model_tables(top)
     record = parse_record(top.table("record"), path.parent)
     top.finish()
+    return case_from_tables(path, data, text, title, notes, tables, record)
+
+
+def case_from_tables(
+    path: Path,
+    data: bytes,
+    text: str,
+    title: str,
+    notes: str,
+    tables: tuple[Structure, DampingSpec, AnalysisSpec, CheckSpec, DisplayUnits],
+    motion: RecordSpec,
+) -> Case:
+    """A Case from the file it was read from, its model tables and its record."""
+    structure, damping, analysis, checks, display = tables
     return Case(
         str(path),
         path.stem,
@@ -319,7 +333,7 @@ def load_case(path: str | Path) -> Case:
         notes,
         structure,
         damping,
-        record,
+        motion,
         analysis,
         checks,
         display,

@@ -26,6 +26,7 @@ from thist.case import (
     MethodSpec,
     RecordSpec,
     _Table,
+    case_from_tables,
     parse_method_entry,
     parse_model_tables,
     parse_record,
@@ -290,23 +291,8 @@ def _structure_case(
         raise top.error("case", "give case = FILE, or the [structure] and [analysis] tables")
     # The same readers as a case file, so inline tables take the same keys and give
     # the same errors.
-    structure, damping, analysis, checks, display = parse_model_tables(top)
     title, notes, text = texts
-    case = Case(
-        str(path),
-        path.stem,
-        text,
-        hashlib.sha256(data).hexdigest(),
-        title,
-        notes,
-        structure,
-        damping,
-        first,
-        analysis,
-        checks,
-        display,
-    )
-    return case, b""
+    return case_from_tables(path, data, text, title, notes, parse_model_tables(top), first), b""
 
 
 def _methods(top: _Table, case: Case) -> tuple[MethodSpec, ...]:

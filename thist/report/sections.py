@@ -187,8 +187,12 @@ def scope(ctx: Ctx) -> list[Flowable]:
         + ".",
         "Methods: " + ", ".join(esc(run.label) for run in r.runs) + ".",
     ]
-    out = heading(ctx, 2, "Scope and assumptions")
-    out += [ctx.p("• " + i) for i in items]
+    return heading(ctx, 2, "Scope and assumptions") + scope_items(ctx, items)
+
+
+def scope_items(ctx: Ctx, items: list[str]) -> list[Flowable]:
+    """The scope as bullet points, then what the analysis does not include."""
+    out = [ctx.p("• " + i) for i in items]
     out.append(ctx.p("Not included in this analysis:", "h2"))
     out += [ctx.p("• " + esc(x)) for x in cautions.NOT_INCLUDED]
     return out

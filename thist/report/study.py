@@ -35,7 +35,7 @@ from thist.batch.stats import IdaCurves, SuiteStatistics
 from thist.batch.store import STORE_NAME
 from thist.report.document import build_pdf, write_pdf
 from thist.report.figures import _figure, _image, _labels, _legend_outside
-from thist.report.sections import WIDTH, key_values, table
+from thist.report.sections import WIDTH, key_values, scope_items, table
 from thist.report.styles import FONT, WARN, esc, fmt, styles
 
 #: Light line colour of individual records in figures; bold colours of the statistics.
@@ -153,11 +153,7 @@ def scope(ctx: StudyCtx) -> list[Flowable]:
             f"Stop rule: a record stops after the first level with {stop}; it counts as "
             "collapsed there and at every higher level."
         )
-    out = _heading(ctx, 2, "Scope and assumptions")
-    out += [ctx.p("• " + i) for i in items]
-    out.append(ctx.p("Not included in this analysis:", "h2"))
-    out += [ctx.p("• " + esc(x)) for x in cautions.NOT_INCLUDED]
-    return out
+    return _heading(ctx, 2, "Scope and assumptions") + scope_items(ctx, items)
 
 
 # 3 ---------------------------------------------------------------------------------------
