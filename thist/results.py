@@ -413,6 +413,7 @@ def summary_text(result: CaseResult) -> str:
     out += [
         "",
         cautions.SHORT,
-        cautions.INELASTIC if any(r.story is not None for r in result.runs) else "",
     ]
+    if any(r.story is not None for r in result.runs):
+        out.append(cautions.INELASTIC)
     return "\n".join(out)
