@@ -4,7 +4,9 @@ For a classically damped linear model, a linear one-step method applied to the
 coupled system equals the same method applied to each mode's equation
 q̈ + 2ζωq̇ + ω²q = φᵀp (mass-normalised φ), to round-off: the method's update
 is linear and the modes diagonalise M, C and K at once. Each mode's recurrence
-(:meth:`Method.step_matrices`) runs as linear filters (:mod:`thist.methods.recurrence`);
+(:meth:`Method.step_matrices`) runs, for a full-history run, in the compiled kernel of
+:mod:`thist.methods.modal_kernel` when numba is available, else (and always for
+chunked runs, :class:`ModalFilters`) as linear filters (:mod:`thist.methods.recurrence`);
 the histories are transformed back with Φ.
 """
 
@@ -14,7 +16,7 @@ import math
 
 import numpy as np
 
-from thist.errors import StabilityError
+from thist.errors import InputError, StabilityError
 from thist.methods.base import Method, Solution
 from thist.methods.recurrence import filter_bank, initial_conditions, run_filters
 from thist.modal import Modes
@@ -55,22 +57,13 @@ class ModalFilters:
         qd0: np.ndarray,
         f0: np.ndarray,
     ):
-        w = np.asarray(modes.omegas, dtype=float)
-        n = w.size
         self.method = method
         self.dt = dt
-        self.c = 2.0 * np.asarray(zetas, dtype=float) * w
-        self.k = w * w
-        A, B0, B1 = method.step_matrices_many(np.ones(n), self.c, self.k, dt)
-        self.bank = filter_bank(A, B0, B1)
-        s = self.bank.order
-        self.components = method.filtered_components(s)
-        self.x0 = np.stack(
-            [
-                method.initial_state(1.0, self.c[j], self.k[j], dt) @ (q0[j], qd0[j], f0[j])
-                for j in range(n)
-            ]
+        self.c, self.k, A, B0, B1, self.x0 = modal_recurrences(
+            method, modes, zetas, dt, q0, qd0, f0
         )
+        self.bank = filter_bank(A, B0, B1)
+        self.components = method.filtered_components(self.bank.order)
         self.zi = initial_conditions(self.bank, self.x0, f0)
         self._started = False
 
@@ -99,13 +92,73 @@ class ModalFilters:
         self.method.complete_states(X, f, self.c, self.k, self.dt)
         self._carry = X[:, :, -1].copy()
         q, qd, qdd = self.method.modal_outputs(X, f, self.c, self.k, self.dt)
-        # a diverging recurrence ends in inf or nan, which the sum carries
-        if not (math.isfinite(float(q.sum())) and math.isfinite(float(qd.sum()))):
-            raise StabilityError(
-                f"{self.method.name}: the modal solution became non-finite; the run "
-                "was stopped (reduce the time step)"
-            )
+        check_finite(self.method, q, qd)
         return q, qd, qdd
+
+
+def modal_recurrences(
+    method: Method,
+    modes: Modes,
+    zetas: np.ndarray,
+    dt: float,
+    q0: np.ndarray,
+    qd0: np.ndarray,
+    f0: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Each mode's recurrence ``x[k+1] = A x[k] + B0 f[k] + B1 f[k+1]`` and start.
+
+    Parameters are those of :class:`ModalFilters`.
+
+    Returns
+    -------
+    c, k : ndarray, shape (n,)
+        Damping (1/s) and stiffness (1/s²) per unit modal mass.
+    A : ndarray, shape (n, s, s)
+    B0, B1 : ndarray, shape (n, s)
+    x0 : ndarray, shape (n, s)
+        Initial state of each mode.
+    """
+    w = np.asarray(modes.omegas, dtype=float)
+    n = w.size
+    c = 2.0 * np.asarray(zetas, dtype=float) * w
+    k = w * w
+    A, B0, B1 = method.step_matrices_many(np.ones(n), c, k, dt)
+    x0 = np.stack(
+        [method.initial_state(1.0, c[j], k[j], dt) @ (q0[j], qd0[j], f0[j]) for j in range(n)]
+    )
+    return c, k, A, B0, B1, x0
+
+
+def check_finite(method: Method, q: np.ndarray, qd: np.ndarray) -> None:
+    """Raise :class:`StabilityError` if a modal history holds inf or nan."""
+    # a diverging recurrence ends in inf or nan, which the sum carries
+    if not (math.isfinite(float(q.sum())) and math.isfinite(float(qd.sum()))):
+        raise StabilityError(
+            f"{method.name}: the modal solution became non-finite; the run "
+            "was stopped (reduce the time step)"
+        )
+
+
+def use_kernel(compiled: bool | None) -> bool:
+    """Whether a full-history modal run uses :mod:`thist.methods.modal_kernel`.
+
+    Parameters
+    ----------
+    compiled : bool or None
+        None: the kernel when numba is available (and ``THIST_NO_NUMBA`` is not
+        set); True: require it; False: the lfilter path.
+    """
+    from thist.methods import modal_kernel
+
+    if compiled is None:
+        return modal_kernel.AVAILABLE
+    if compiled and not modal_kernel.AVAILABLE:
+        raise InputError(
+            "the compiled modal kernel needs numba (pip install 'thist[fast]'), and "
+            "THIST_NO_NUMBA must not be set",
+            "compiled",
+        )
+    return bool(compiled)
 
 
 def modal_initial(
@@ -128,6 +181,7 @@ def integrate_modal(
     dt: float,
     u0: np.ndarray | None = None,
     v0: np.ndarray | None = None,
+    compiled: bool | None = None,
 ) -> Solution:
     """Integrate ``M a + C v + K u = p`` mode by mode (classical damping only).
 
@@ -146,22 +200,43 @@ def integrate_modal(
         Time step, s.
     u0, v0 : ndarray, shape (n,), optional
         Initial displacement (m) and velocity (m/s); rest by default.
+    compiled : bool, optional
+        Run every mode's recurrence in the compiled kernel of
+        :mod:`thist.methods.modal_kernel` (same recurrence, same results to
+        round-off). Default: when numba is available and ``THIST_NO_NUMBA`` is
+        not set; False forces the lfilter path (:class:`ModalFilters`).
 
     Returns
     -------
     Solution
         The same histories as ``method.integrate`` on the coupled system, to
         round-off; ``u``, ``v``, ``a`` are C-contiguous float64 arrays of shape
-        (N, n), each written once by its back-transform product.
+        (N, n).
     """
     phi = modes.shapes
     n_steps, n = p.shape
-    # Modal loads per unit modal mass, one contiguous row per mode, with one sample
-    # past the end (explicit methods need the state after the last load).
+    q0, qd0 = modal_initial(M, modes, u0, v0)
+    if use_kernel(compiled):
+        from thist.methods.modal_kernel import modal_states
+
+        # modal loads, one row of modes per sample, one sample past the end
+        # (explicit methods need the state after the last load)
+        g = np.empty((n_steps + 1, phi.shape[1]))
+        np.matmul(p, phi, out=g[:n_steps])
+        g[n_steps] = g[n_steps - 1]
+        c, k, A, B0, B1, x0 = modal_recurrences(method, modes, zetas, dt, q0, qd0, g[0])
+        # every component is stepped: the states are complete without complete_states
+        X = modal_states(A, B0, B1, x0, g)
+        # the methods read (n, s, L + 1) arrays: transposed views of the same memory,
+        # whose outputs transpose to contiguous (N, n) operands of the back-transform
+        q, qd, qdd = method.modal_outputs(X.transpose(2, 0, 1), g.T, c, k, dt)
+        check_finite(method, q, qd)
+        return Solution(q.T @ phi.T, qd.T @ phi.T, qdd.T @ phi.T)
+    # The lfilter path: modal loads per unit modal mass, one contiguous row per
+    # mode, with one sample past the end.
     f_ext = np.empty((n, n_steps + 1))
     np.matmul(phi.T, p.T, out=f_ext[:, :n_steps])
     f_ext[:, n_steps] = f_ext[:, n_steps - 1]
-    q0, qd0 = modal_initial(M, modes, u0, v0)
     filters = ModalFilters(method, modes, zetas, dt, q0, qd0, f_ext[:, 0])
     q, qd, qdd = filters.advance(f_ext)
     return Solution(q.T @ phi.T, qd.T @ phi.T, qdd.T @ phi.T)
