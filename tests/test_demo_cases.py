@@ -54,14 +54,16 @@ def test_demo_record_is_reproduced_bit_for_bit_by_its_script(tmp_path, monkeypat
     import importlib.util
 
     spec = importlib.util.spec_from_file_location(
-        "make_demo_records", INPUTS.parent / "scripts" / "make_demo_records.py")
+        "make_demo_records", INPUTS.parent / "scripts" / "make_demo_records.py"
+    )
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
     monkeypatch.setattr(mod, "HERE", tmp_path)
     mod.main()
     for name in mod.DEMO:
         new = read_record(tmp_path / name, time_column="time_s", acceleration_column="accel_m_s2")
-        old = read_record(INPUTS / "records" / name, time_column="time_s",
-                          acceleration_column="accel_m_s2")
+        old = read_record(
+            INPUTS / "records" / name, time_column="time_s", acceleration_column="accel_m_s2"
+        )
         assert new.dt == old.dt
         np.testing.assert_allclose(new.ag, old.ag, rtol=0, atol=1e-9 * np.max(np.abs(old.ag)))

@@ -406,9 +406,7 @@ def test_non_classically_damped_three_story_model_matches_solve_ivp():
 
 @pytest.mark.parametrize("zeta", [0.0, 0.05, 0.2])
 @pytest.mark.parametrize("omega_dt", [0.3, 1.0, 2.5])
-def test_exact_method_shows_no_period_error_or_algorithmic_damping_at_any_damping(
-    omega_dt, zeta
-):
+def test_exact_method_shows_no_period_error_or_algorithmic_damping_at_any_damping(omega_dt, zeta):
     """The exact solution's root exp(Ω(−ζ ± i√(1−ζ²))) (Chopra 2012, eq. 2.2.4) must read
     as zero period error and zero algorithmic damping: the measures compare with the
     exact damped root, not the undamped period. Tolerance 1e-12 (round-off)."""

@@ -85,8 +85,14 @@ def test_non_finite_values_are_refused():
 
 @pytest.mark.parametrize(
     ("text", "hz"),
-    [("2 Hz", 2.0), ("12.566370614359172 rad/s", 2.0), ("120 rpm", 2.0), ("720 degree/s", 2.0),
-     ("2 turn/s", 2.0), ("0.5 kHz", 500.0)],
+    [
+        ("2 Hz", 2.0),
+        ("12.566370614359172 rad/s", 2.0),
+        ("120 rpm", 2.0),
+        ("720 degree/s", 2.0),
+        ("2 turn/s", 2.0),
+        ("0.5 kHz", 500.0),
+    ],
 )
 def test_angular_frequencies_convert_to_hertz(text, hz):
     """pint counts the radian as 1, so rad/s would read as Hz; ω = 2πf (definition)."""

@@ -60,6 +60,7 @@ _OPTION = {
     "envelope.decay": "--decay",
 }
 
+
 def circular_frequency(text: str, field: str) -> float:
     """Circular frequency ω = 2πf, rad/s, from ``"2.5 Hz"``, ``"15.7 rad/s"`` or ``"150 rpm"``.
 
