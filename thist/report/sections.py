@@ -110,6 +110,24 @@ def key_values(ctx: Ctx, pairs: list[tuple[str, str]], key_width: float = 42 * m
     return t
 
 
+def status_box(ctx: Ctx) -> Table:
+    """The boxed status line "Preliminary estimate - not for construction"."""
+    status = Table(
+        [[Paragraph(esc(cautions.STATUS), ctx.st["status"])]], colWidths=[WIDTH], hAlign="LEFT"
+    )
+    status.setStyle(
+        TableStyle(
+            [
+                ("FONT", (0, 0), (-1, -1), FONT, 10),
+                ("BOX", (0, 0), (-1, -1), 1.0, WARN),
+                ("TOPPADDING", (0, 0), (-1, -1), 4),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 4),
+            ]
+        )
+    )
+    return status
+
+
 def heading(ctx: Ctx, number: int, text: str) -> list[Flowable]:
     return [CondPageBreak(40 * mm), ctx.p(f"{number}. {esc(text)}", "h1")]
 
@@ -127,19 +145,7 @@ def title_block(ctx: Ctx, created: _dt.datetime) -> list[Flowable]:
         f"{k.replace('_', ' ')} {esc(du.label(k))}"
         for k in ("length", "small_length", "force", "mass", "acceleration", "moment")
     )
-    status = Table(
-        [[Paragraph(esc(cautions.STATUS), ctx.st["status"])]], colWidths=[WIDTH], hAlign="LEFT"
-    )
-    status.setStyle(
-        TableStyle(
-            [
-                ("FONT", (0, 0), (-1, -1), FONT, 10),
-                ("BOX", (0, 0), (-1, -1), 1.0, WARN),
-                ("TOPPADDING", (0, 0), (-1, -1), 4),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 4),
-            ]
-        )
-    )
+    status = status_box(ctx)
     rec = case.record
     kinds = "comparison of integrators" if ctx.comparison else "time-history analysis"
     out = [

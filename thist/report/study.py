@@ -24,8 +24,6 @@ from reportlab.platypus import (
     Paragraph,
     Preformatted,
     Spacer,
-    Table,
-    TableStyle,
 )
 
 from thist import __version__, cautions
@@ -35,8 +33,8 @@ from thist.batch.stats import IdaCurves, SuiteStatistics
 from thist.batch.store import STORE_NAME
 from thist.report.document import build_pdf, write_pdf
 from thist.report.figures import _figure, _image, _labels, _legend_outside
-from thist.report.sections import WIDTH, key_values, scope_items, table
-from thist.report.styles import FONT, WARN, esc, fmt, styles
+from thist.report.sections import key_values, scope_items, status_box, table
+from thist.report.styles import esc, fmt, styles
 
 #: Light line colour of individual records in figures; bold colours of the statistics.
 _LIGHT = "#b8c2cc"
@@ -78,19 +76,7 @@ def _heading(ctx: StudyCtx, number: int, text: str) -> list[Flowable]:
 
 def title_block(ctx: StudyCtx, created: _dt.datetime) -> list[Flowable]:
     s, r = ctx.study, ctx.result
-    status = Table(
-        [[Paragraph(esc(cautions.STATUS), ctx.st["status"])]], colWidths=[WIDTH], hAlign="LEFT"
-    )
-    status.setStyle(
-        TableStyle(
-            [
-                ("FONT", (0, 0), (-1, -1), FONT, 10),
-                ("BOX", (0, 0), (-1, -1), 1.0, WARN),
-                ("TOPPADDING", (0, 0), (-1, -1), 4),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 4),
-            ]
-        )
-    )
+    status = status_box(ctx)
     kind = "record suite" if s.kind == "suite" else "incremental dynamic analysis"
     stored = len(r.rows)
     complete = "complete" if r.complete else "INCOMPLETE: resume the study to finish it"
