@@ -116,6 +116,24 @@ class _Table:
             raise self.error(key, f"expected a list, got {value!r}")
         return value
 
+    def limit_with_basis(self, key: str, what: str) -> tuple[float | None, str]:
+        """An optional ratio limit in (0, 1) and its required basis ``<key>_basis``.
+
+        Thist holds no code values: a limit the user gives must come with where it
+        comes from, and a basis without a limit is an error.
+        """
+        basis_key = f"{key}_basis"
+        limit = self.quantity(key, "dimensionless", None)
+        basis = self.string(basis_key, "")
+        if limit is not None:
+            if not 0 < limit < 1:
+                raise self.error(key, f"must lie in (0, 1), got {limit:g}")
+            if not basis.strip():
+                raise self.error(basis_key, f"state the basis of {what}")
+        elif basis:
+            raise self.error(basis_key, f"given without {key}")
+        return limit, basis
+
     def finish(self) -> None:
         """Refuse keys nobody asked for, naming the nearest valid key."""
         for key in self.data:
@@ -756,19 +774,10 @@ def _checks(t: _Table) -> CheckSpec:
     spp = t.number("steps_per_period", 10.0)
     if not spp > 0:
         raise t.error("steps_per_period", "must be positive")
-    limit = t.quantity("drift_ratio_limit", "dimensionless", None)
-    basis = t.string("drift_ratio_limit_basis", "")
-    if limit is not None:
-        if not 0 < limit < 1:
-            raise t.error("drift_ratio_limit", f"must lie in (0, 1), got {limit:g}")
-        if not basis.strip():
-            raise t.error(
-                "drift_ratio_limit_basis",
-                "state the basis of the drift-ratio limit (e.g. the governing code "
-                "and risk category)",
-            )
-    elif basis:
-        raise t.error("drift_ratio_limit_basis", "given without drift_ratio_limit")
+    limit, basis = t.limit_with_basis(
+        "drift_ratio_limit",
+        "the drift-ratio limit (e.g. the governing code and risk category)",
+    )
     t.finish()
     return CheckSpec(mass_ratio, spp, limit, basis)
 

@@ -386,17 +386,7 @@ def _ida(t: _Table, t1: float) -> IdaSpec:
             if t.has(key):
                 raise t.error(key, 'only for measure = "psa"')
         period, damping = None, 0.05
-    limit = t.quantity("collapse_drift_ratio", "dimensionless", None)
-    basis = t.string("collapse_drift_ratio_basis", "")
-    if limit is not None:
-        if not 0 < limit < 1:
-            raise t.error("collapse_drift_ratio", f"must lie in (0, 1), got {limit:g}")
-        if not basis.strip():
-            raise t.error(
-                "collapse_drift_ratio_basis", "state the basis of the collapse drift ratio"
-            )
-    elif basis:
-        raise t.error("collapse_drift_ratio_basis", "given without collapse_drift_ratio")
+    limit, basis = t.limit_with_basis("collapse_drift_ratio", "the collapse drift ratio")
     t.finish()
     return IdaSpec(
         measure,
