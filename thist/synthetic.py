@@ -212,8 +212,15 @@ def _state_space(
 
 
 def _sqrt_psd(q: np.ndarray) -> np.ndarray:
-    """A matrix L with L L^T = q for a symmetric positive semi-definite q."""
+    """A matrix L with L L^T = q for a symmetric positive semi-definite q.
+
+    Eigenvectors are defined up to sign, and LAPACK builds differ in the sign they
+    return; each is turned so that its component of largest magnitude is positive,
+    so the same seed gives the same record on every build.
+    """
     vals, vecs = np.linalg.eigh(0.5 * (q + q.T))
+    lead = vecs[np.argmax(np.abs(vecs), axis=0), np.arange(vecs.shape[1])]
+    vecs = vecs * np.where(lead < 0.0, -1.0, 1.0)
     return vecs * np.sqrt(np.clip(vals, 0.0, None))
 
 
