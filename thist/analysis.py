@@ -24,7 +24,7 @@ from thist.damping import (
 from thist.energy import EnergyBalance, energy_balance
 from thist.errors import InputError
 from thist.methods import get_method
-from thist.methods.base import Method, Solution
+from thist.methods.base import Method, Solution, substep_count
 from thist.methods.inelastic import (
     ConvergenceStats,
     StoryDemands,
@@ -125,23 +125,57 @@ def integrate_linear(
     structure: Structure,
     damping: Damping,
     modes: Modes,
-    p: np.ndarray,
+    ag: np.ndarray,
     dt: float,
+    *,
+    substeps: int = 1,
 ) -> tuple[Solution, str]:
-    """Integrate a linear model by the fastest path that gives the method's own answer.
+    """Response of a linear model to a base acceleration, by the fastest path that
+    gives the method's own answer.
 
-    Classically damped models run mode by mode as linear filters (``"modal"``), which
-    equals the coupled-system algorithm to round-off; others run on the coupled
-    system with one factorisation (``"direct"``).
+    Classically damped models run mode by mode (``"modal"``,
+    :func:`~thist.methods.modal_path.integrate_modal`), which equals the
+    coupled-system algorithm to round-off; others run on the coupled system with one
+    factorisation (``"direct"``).
+
+    Parameters
+    ----------
+    method : Method
+    structure : Structure
+    damping : Damping
+    modes : Modes
+        Modes of (M, K), mass-normalised.
+    ag : ndarray, shape (N,)
+        Base acceleration, m/s², at N samples ``dt`` apart, linear in between.
+    dt : float
+        Sample step, s.
+    substeps : int
+        Method steps per sample (the method steps at ``dt / substeps``; the
+        histories are read at the samples). The caller checks the method's
+        stability at the finer step.
 
     Returns
     -------
     (Solution, str)
-        The histories and the name of the path that ran.
+        The histories relative to the base at the N samples, and the name of the
+        path that ran.
     """
+    M, r = structure.M, structure.r
+    ag = np.asarray(ag, dtype=float)
+    substeps = substep_count(substeps)
     if damping.classical:
-        return integrate_modal(method, structure.M, modes, damping.ratios, p, dt), "modal"
-    return method.integrate(structure.M, damping.C, structure.K, p, dt), "direct"
+        gamma = modes.shapes.T @ (M @ r)  # modal load per unit modal mass is −Γ ü_g
+        sol = integrate_modal(
+            method, M, modes, damping.ratios, ag[:, None], dt,
+            substeps=substeps, to_modal=-gamma[None, :],
+        )  # fmt: skip
+        return sol, "modal"
+    if substeps == 1:
+        return method.integrate(M, damping.C, structure.K, -np.outer(ag, M @ r), dt), "direct"
+    fine = np.interp(np.arange((ag.size - 1) * substeps + 1) / substeps, np.arange(ag.size), ag)
+    sol = method.integrate(M, damping.C, structure.K, -np.outer(fine, M @ r), dt / substeps)
+    every = slice(None, None, substeps)
+    return Solution(*(np.ascontiguousarray(x[every]) for x in (sol.u, sol.v, sol.a))), "direct"
 
 
 def _run_method(
@@ -158,9 +192,8 @@ def _run_method(
     structure = case.structure
     if not structure.is_linear:
         return _run_inelastic(case, damping, ex, spec_label, method, checks)
-    p = -np.outer(ex.ag, structure.M @ structure.r)
     start = _time.perf_counter()
-    sol, path = integrate_linear(method, structure, damping, modes, p, ex.dt)
+    sol, path = integrate_linear(method, structure, damping, modes, ex.ag, ex.dt)
     elapsed = _time.perf_counter() - start
     resp = compute_response(structure, ex.time, ex.ag, sol.u, sol.v, sol.a)
     energy = energy_balance(
@@ -344,6 +377,7 @@ def time_history(
     r: np.ndarray | None = None,
     beta: float | None = None,
     gamma: float | None = None,
+    substeps: int = 1,
     **params: float,
 ) -> History:
     """Response of a linear model to a base acceleration, SI arrays in and out.
@@ -362,6 +396,11 @@ def time_history(
         Influence vector; ones by default.
     beta, gamma : float, optional
         Newmark parameters for ``method="newmark"``.
+    substeps : int
+        Method steps per sample: the method steps at ``dt / substeps`` under the
+        record interpolated linearly, and the histories are read at the samples
+        (on the modal path of a classically damped model this costs no more than
+        one step per sample). Stability is checked at the finer step.
     **params : float
         Other method parameters (``alpha`` for hht, ``rho_inf`` for generalized-alpha).
 
@@ -373,7 +412,7 @@ def time_history(
     Raises
     ------
     StabilityError
-        ``dt`` above the method's stability limit for the highest mode.
+        ``dt / substeps`` above the method's stability limit for the highest mode.
     InputError
         Inconsistent shapes or unknown method.
     """
@@ -394,9 +433,9 @@ def time_history(
     m = get_method(method, **params)
     structure = general_model(M, K, r)
     modes = modal(M, K, r)
-    check_method(m, method, modes, np.zeros(n), dt, dt).raise_if_refused()
-    p = -np.outer(ag, M @ r)
+    step = dt / substep_count(substeps)
+    check_method(m, method, modes, np.zeros(n), step, step).raise_if_refused()
     damping = matrix_damping(C, modes, "given")
-    sol, _ = integrate_linear(m, structure, damping, modes, p, dt)
+    sol, _ = integrate_linear(m, structure, damping, modes, ag, dt, substeps=substeps)
     t = np.arange(ag.size) * dt
     return History(t, sol.u, sol.v, sol.a, sol.a + np.outer(ag, r))

@@ -8,9 +8,10 @@ signed value of largest magnitude with its time (the earliest on ties, as
 :func:`thist.response.peak` does). Memory is that of the model and one chunk,
 whatever the number of steps:
 
-* linear, classically damped (path ``"modal"``): the modal filters of
-  :class:`thist.methods.modal_path.ModalFilters`, whose ``lfilter`` state is
-  carried from chunk to chunk, so the samples are those of the full run;
+* linear, classically damped (path ``"modal"``): the modal recurrences of
+  :class:`thist.methods.modal_path.ModalStepper` (compiled kernel or filters),
+  whose state is carried from chunk to chunk, so the samples are those of the
+  full run;
 * inelastic, compiled (path ``"compiled"``): the kernels of
   :mod:`thist.methods.inelastic_kernel`, which carry their whole state in small
   arrays between chunks.
@@ -42,7 +43,7 @@ from thist.methods.inelastic import (
     story_drift,
     use_compiled,
 )
-from thist.methods.modal_path import ModalFilters
+from thist.methods.modal_path import ModalStepper
 from thist.modal import Modes
 from thist.response import QUANTITIES, Peak, Response, compute_response
 from thist.springs import SpringParameters
@@ -183,25 +184,18 @@ def linear_peaks(
         return LinearPeaks(tracker.peaks(), "direct", 0)
     phi = modes.shapes
     n = phi.shape[1]
-    gamma = phi.T @ (M @ r)  # modal load per unit modal mass is −Γ ü_g
+    to_modal = -(phi.T @ (M @ r))[None, :]  # modal load per unit modal mass is −Γ ü_g
     length = chunk_steps(n, chunk_bytes)
     zeros = np.zeros(n)
-    filters = ModalFilters(method, modes, damping.ratios, dt, zeros, zeros, -gamma * ag[0])
-    work = np.empty((n, filters.bank.order, length + 1))
-    f = np.empty((n, length + 1))
-    ag_chunk = np.empty(length + 1)
+    stepper = ModalStepper(method, modes, damping.ratios, dt, zeros, zeros, ag[0] * to_modal[0])
+    out = np.empty((3, length, phi.shape[0]))
+    P = ag[:, None]
     for k0 in range(0, n_samples, length):
         count = min(length, n_samples - k0)
-        stop = min(k0 + count + 1, n_samples)
-        ag_chunk[: stop - k0] = ag[k0:stop]
-        ag_chunk[stop - k0 : count + 1] = ag[n_samples - 1]  # one sample past the end
-        np.multiply(-gamma[:, None], ag_chunk[None, : count + 1], out=f[:, : count + 1])
-        q, qd, qdd = filters.advance(f[:, : count + 1], out=work[:, :, : count + 1])
+        # the chunk's samples and the next one (held after the end of the record)
+        u, v, a = stepper.advance(P[k0 : k0 + count + 1], to_modal, out, count)
         t = (k0 + np.arange(count)) * dt
-        resp = compute_response(
-            structure, t, ag_chunk[:count], q.T @ phi.T, qd.T @ phi.T, qdd.T @ phi.T
-        )
-        tracker.update_response(resp)
+        tracker.update_response(compute_response(structure, t, ag[k0 : k0 + count], u, v, a))
     return LinearPeaks(tracker.peaks(), "modal", length)
 
 

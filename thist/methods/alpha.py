@@ -91,25 +91,6 @@ class _AlphaFamily(Method):
         # u0, v0 given; a0 from equilibrium at t = 0.
         return np.array([[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [-k / m, -c / m, 1.0 / m]])
 
-    # -- the modal path: with α_m = 0 the acceleration follows from the balance --------
-    def filtered_components(self, s):
-        return (0, 1) if self.coefficients[0] == 0.0 else tuple(range(s))
-
-    def complete_states(self, X, f, c, k, dt):
-        am, af = self.coefficients[:2]
-        if am != 0.0:
-            return
-        # (unit mass) a[j+1] = (1−α_f)(f − c v − k u)[j+1] + α_f (f − c v − k u)[j],
-        # the balance the step solves (see the module docstring).
-        u, v, a = X[:, 0], X[:, 1], X[:, 2]
-        cc, kk = c[:, None], k[:, None]
-        out = a[:, 1:]
-        np.subtract(f[:, 1:], cc * v[:, 1:], out=out)
-        out -= kk * u[:, 1:]
-        if af != 0.0:
-            out *= 1.0 - af
-            out += af * (f[:, :-1] - cc * v[:, :-1] - kk * u[:, :-1])
-
     # -- the coupled-system integrator ----------------------------------------------
     def integrate(self, M, C, K, p, dt, u0=None, v0=None):
         n_steps, n = p.shape

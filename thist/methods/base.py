@@ -24,10 +24,11 @@ A method is a frozen dataclass whose fields are its parameters. It states:
     the fast modal path also runs this recurrence as a linear filter.
 ``initial_state(m, c, k, dt)``
     The map from (u0, v0, f0) to the first state of that recurrence.
-``filtered_components(s)``, ``complete_states(X, f, c, k, dt)``, ``modal_outputs(X, f, c, k, dt)``
-    How the modal path (:mod:`thist.methods.modal_path`) turns the states of all
-    modes, run as filters, into (u, v, a): which components are filtered, how the
-    rest follow from them, and how the outputs are read (vectorised over modes).
+``modal_outputs(X, f, c, k, dt)``
+    How (u, v, a) of unit-mass DOFs are read from the recurrence's states at a
+    sample and the next one and the loads at both (vectorised over DOFs). It must
+    be linear in those: the modal path (:mod:`thist.methods.modal_path`) evaluates
+    it once on unit inputs and runs the resulting read-out matrices in its loop.
 ``integrate(M, C, K, p, dt, u0, v0)``
     Direct integration of ``M a + C v + K u = p(t)`` on the coupled system.
 
@@ -47,7 +48,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from thist.errors import StabilityError
+from thist.errors import InputError, StabilityError
 
 
 @dataclass(frozen=True)
@@ -176,42 +177,13 @@ class Method(ABC):
         Solution
         """
 
-    def filtered_components(self, s: int) -> tuple[int, ...]:
-        """State components the modal path runs as filters; the rest follow from them.
-
-        Parameters
-        ----------
-        s : int
-            Number of state components of :meth:`step_matrices`.
-
-        The default filters every component; a method whose remaining components
-        follow from the filtered ones without recursion fills them in
-        :meth:`complete_states` (cheaper than another filter).
-        """
-        return tuple(range(s))
-
-    def complete_states(  # noqa: B027 - optional hook
-        self, X: np.ndarray, f: np.ndarray, c: np.ndarray, k: np.ndarray, dt: float
-    ) -> None:
-        """Fill, in place, the state components not in :meth:`filtered_components`.
-
-        Parameters
-        ----------
-        X : ndarray, shape (n, s, L)
-            States of n unit-mass DOFs at L consecutive samples; the first
-            sample is complete, the others hold only the filtered components.
-        f : ndarray, shape (n, L)
-            Load per unit mass at the same samples, m/s².
-        c, k : ndarray, shape (n,)
-            Damping (1/s) and stiffness (1/s²) per unit mass of each DOF.
-        dt : float
-            Time step, s.
-        """
-
     def modal_outputs(
         self, X: np.ndarray, f: np.ndarray, c: np.ndarray, k: np.ndarray, dt: float
     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(u, v, a) histories of n unit-mass DOFs from their recurrence states.
+
+        Linear in ``X`` and ``f``, and the output at sample i may use the samples
+        i and i + 1 only (see :func:`thist.methods.modal_path.output_map`).
 
         Parameters
         ----------
@@ -281,6 +253,19 @@ def _from_log_root(omega_dt: float, zeta: float, rho: float, log_root: complex):
     root = math.sqrt(max(1.0 - zeta * zeta, 1e-300))
     period_error = omega_dt * root / wbar - 1.0
     return SpectralProperties(omega_dt, rho, wbar, period_error, xibar - zeta / root)
+
+
+def substep_count(value: object) -> int:
+    """Method steps per sample, checked: a whole number ≥ 1.
+
+    Raises
+    ------
+    InputError
+        Anything else (a float, zero, a negative number).
+    """
+    if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
+        raise InputError(f"must be a whole number >= 1, got {value!r}", "substeps")
+    return int(value)
 
 
 def check_finite_growth(u_block: np.ndarray, bound: float, t: float, method: str) -> None:

@@ -614,8 +614,8 @@ def use_compiled(compiled: bool | None) -> bool:
         return _kernel().AVAILABLE
     if compiled and not _kernel().AVAILABLE:
         raise InputError(
-            "the compiled kernels need numba (pip install 'thist[fast]'), and "
-            "THIST_NO_NUMBA must not be set",
+            "the compiled kernels need numba (a dependency of thist that did not "
+            "import here), and THIST_NO_NUMBA must not be set",
             "compiled",
         )
     return bool(compiled)

@@ -26,9 +26,10 @@ carries from chunk to chunk lives in plain float64 arrays:
     subdivided steps, input and damping energy, and the running growth-check
     maximum and finiteness flag.
 
-numba is optional: :data:`AVAILABLE` is False when it does not import or when the
-environment variable ``THIST_NO_NUMBA`` is set to anything but ``""``/``"0"``;
-the callers then use the pure path. Compilation is cached on disk
+numba is a dependency of thist, but the kernels are not required: :data:`AVAILABLE`
+is False when numba does not import or when the environment variable
+``THIST_NO_NUMBA`` is set to anything but ``""``/``"0"``; the callers then use the
+pure path. Compilation is cached on disk
 (``cache=True``), so only the first run on a machine pays for it.
 """
 
@@ -39,7 +40,7 @@ import os
 
 import numpy as np
 
-try:  # numba is an optional dependency (the "fast" extra)
+try:  # numba is a dependency; the fallback serves machines where it cannot import
     if os.environ.get("THIST_NO_NUMBA", "") not in ("", "0"):
         raise ImportError("disabled by THIST_NO_NUMBA")
     from numba import njit

@@ -66,6 +66,46 @@ def run_recurrence(Phi: np.ndarray, g: np.ndarray, z0: np.ndarray) -> np.ndarray
     return z
 
 
+def fold_substeps(
+    A: np.ndarray, B0: np.ndarray, B1: np.ndarray, r: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """r steps of ``x[m+1] = A x[m] + B0 f[m] + B1 f[m+1]`` as one step of the same form.
+
+    With the load linear between two samples f_K and f_K+1 (so at sub-step m of r,
+    f = (1 − m/r) f_K + (m/r) f_K+1, the load model of a record interpolated to a
+    finer step), the state after r sub-steps is
+
+        x[K+1] = Aʳ x[K] + C0 f_K + C1 f_K+1,
+        C0 = Σ_m A^(r−1−m) (B0 (1 − m/r) + B1 (1 − (m+1)/r)),
+        C1 = Σ_m A^(r−1−m) (B0 m/r + B1 (m+1)/r),
+
+    exactly (to round-off) the states of the step-by-step run at Δt/r, one in r.
+
+    Parameters
+    ----------
+    A : ndarray, shape (n, s, s)
+    B0, B1 : ndarray, shape (n, s)
+        Recurrence of each of n systems at the sub-step.
+    r : int
+        Sub-steps per sample, ≥ 1.
+
+    Returns
+    -------
+    (Ar, C0, C1) : ndarrays, shapes (n, s, s), (n, s), (n, s)
+    """
+    n, s, _ = A.shape
+    # Columns [Aᵐ | C0 | C1] of x[m] = Aᵐ x[0] + C0 f_K + C1 f_K+1, advanced one
+    # sub-step at a time: x[m+1] = A x[m] + B0 f[m] + B1 f[m+1].
+    X = np.zeros((n, s, s + 2))
+    X[:, :, :s] = np.eye(s)
+    for m in range(r):
+        w, w_next = m / r, (m + 1) / r
+        X = A @ X
+        X[:, :, s] += B0 * (1.0 - w) + B1 * (1.0 - w_next)
+        X[:, :, s + 1] += B0 * w + B1 * w_next
+    return X[:, :, :s].copy(), X[:, :, s].copy(), X[:, :, s + 1].copy()
+
+
 def characteristic_polynomials(A: np.ndarray) -> np.ndarray:
     """Coefficients [1, d1, …, ds] of det(zI − A) for a stack of matrices (n, s, s).
 
