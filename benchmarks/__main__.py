@@ -25,8 +25,13 @@ def main(argv: list[str]) -> int:
     import os
 
     names = [m for m in discover() if not argv or any(w in m for w in argv)]
-    print(f"python {platform.python_version()} on {platform.machine()}, {os.cpu_count()} CPUs; ")
-    print(f"OPENBLAS_NUM_THREADS={os.environ.get('OPENBLAS_NUM_THREADS')}")
+    print(f"python {platform.python_version()} on {platform.machine()}, {os.cpu_count()} CPUs")
+    print(
+        "; ".join(
+            f"{k}={os.environ.get(k)}"
+            for k in ("OPENBLAS_NUM_THREADS", "OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE")
+        )
+    )
     failed = 0
     for name in names:
         print(f"\n=== {name} ===", flush=True)

@@ -18,14 +18,9 @@ Run: ``python -m benchmarks.bench_inelastic``.
 
 from __future__ import annotations
 
-import os
-import subprocess
-import sys
-import tempfile
-
 import numpy as np
 
-from benchmarks.timing import best_of
+from benchmarks.timing import best_of, print_compile_times
 from thist.methods.inelastic import integrate_inelastic
 from thist.methods.inelastic_kernel import AVAILABLE
 from thist.springs import bilinear
@@ -63,24 +58,11 @@ def problem(n: int = N_STORIES, n_steps: int = N_STEPS, seed: int = 3):
     return m, springs, ag, DT, kw
 
 
-def first_call_times(cache_dir: str) -> tuple[float, float, float]:
-    """(import s, first call s, second call s) of a fresh process using ``cache_dir``."""
-    env = {**os.environ, "NUMBA_CACHE_DIR": cache_dir}
-    out = subprocess.run(
-        [sys.executable, "-c", _FIRST_CALL], env=env, capture_output=True, text=True, check=True
-    )
-    a, b, c = (float(x) for x in out.stdout.split())
-    return a, b, c
-
-
 def main() -> None:
     """Print compile and run times, the agreement of the two paths and the ratio."""
     if not AVAILABLE:
         print("numba is not available (or THIST_NO_NUMBA is set): nothing to compare")
         return
-    with tempfile.TemporaryDirectory() as cache:
-        imp_cold, first_cold, again_cold = first_call_times(cache)
-        imp_warm, first_warm, again_warm = first_call_times(cache)
     m, springs, ag, dt, kw = problem()
     t_fast, fast = best_of(lambda: integrate_inelastic(m, springs, ag, dt, compiled=True, **kw), 5)
     t_pure, pure = best_of(lambda: integrate_inelastic(m, springs, ag, dt, compiled=False, **kw), 1)
@@ -108,15 +90,7 @@ def main() -> None:
         f"  same solver statistics: {pure.convergence == fast.convergence}; largest "
         f"difference of u, v, a, shear: {diff:.1e} of the peak (round-off)"
     )
-    print("  compile time (fresh process, first calls of the implicit and explicit kernels):")
-    print(
-        f"    empty numba cache: first calls {first_cold:6.2f} s (compiles and caches), "
-        f"again {again_cold * 1e3:.1f} ms; import {imp_cold:.2f} s"
-    )
-    print(
-        f"    cached (a second run): first calls {first_warm:6.2f} s (loads the cache), "
-        f"again {again_warm * 1e3:.1f} ms; import {imp_warm:.2f} s"
-    )
+    print_compile_times(_FIRST_CALL, "the implicit and explicit kernels")
 
 
 if __name__ == "__main__":
