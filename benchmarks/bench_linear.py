@@ -19,7 +19,7 @@ Ratios measured in one process (never asserted in tests), best of several runs
    the linearly interpolated record, folded into one recurrence per sample and
    read at the samples, as RK45 is read at them: ``substeps=r``), and the
    ``exact`` method on the modal path (exact to round-off). The RK45 run is
-   timed best of 2 (it takes seconds; the others best of many).
+   timed best of 3 (it takes most of a second; the others best of many).
 3. For information: the sub-stepped Newmark run done step by step (histories at
    every sub-step), and the direct coupled-system path (one banded
    factorisation) that non-classically damped models take.
@@ -136,7 +136,7 @@ def main() -> None:
         )
         return out.y[: s.n].T
 
-    t_ivp, ivp = best_of(run_ivp, repeat=2)
+    t_ivp, ivp = best_of(run_ivp, repeat=3)
 
     def err(x):
         return float(np.max(np.abs(x - exact)) / scale)

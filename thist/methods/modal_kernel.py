@@ -35,7 +35,7 @@ from thist.methods.inelastic_kernel import AVAILABLE, njit
 
 __all__ = ["AVAILABLE", "BLOCK", "modal_histories"]
 
-#: Samples per block: the block's modal loads and read-outs (about 100 kB for ten
+#: Samples per block: the block's modal loads and read-outs (about 160 kB for ten
 #: modes) stay in cache between the recurrence and the back-transform.
 BLOCK = 512
 

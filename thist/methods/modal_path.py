@@ -149,12 +149,9 @@ def modal_recurrence(
         E0 = E0 + E1 * (1.0 - 1.0 / substeps)
         E1 = E1 / substeps
         A, B0, B1 = fold_substeps(A, B0, B1, substeps)
-    n, _, s = D.shape
-    m = min(s, 3)
+    m = min(D.shape[2], 3)
     direct = bool(
-        np.array_equal(D[:, :m, :], np.broadcast_to(np.eye(m, s), (n, m, s)))
-        and not E0[:, :m].any()
-        and not E1[:, :m].any()
+        (D[:, :m, :] == np.eye(m, D.shape[2])).all() and not E0[:, :m].any() and not E1[:, :m].any()
     )
     return ModalRecurrence(A, B0, B1, D, E0, E1, c, k, h, direct)
 

@@ -95,14 +95,17 @@ def fold_substeps(
     """
     n, s, _ = A.shape
     # Columns [Aᵐ | C0 | C1] of x[m] = Aᵐ x[0] + C0 f_K + C1 f_K+1, advanced one
-    # sub-step at a time: x[m+1] = A x[m] + B0 f[m] + B1 f[m+1].
+    # sub-step at a time: x[m+1] = A x[m] + B0 f[m] + B1 f[m+1]. The load terms of
+    # sub-step m, B0 f[m] + B1 f[m+1], are linear in m: formed for all m at once.
+    w = np.arange(r)[:, None, None] / r
+    step = np.empty((r, n, s, 2))
+    step[..., 0] = B0 * (1.0 - w) + B1 * (1.0 - w - 1.0 / r)
+    step[..., 1] = B0 * w + B1 * (w + 1.0 / r)
     X = np.zeros((n, s, s + 2))
     X[:, :, :s] = np.eye(s)
     for m in range(r):
-        w, w_next = m / r, (m + 1) / r
         X = A @ X
-        X[:, :, s] += B0 * (1.0 - w) + B1 * (1.0 - w_next)
-        X[:, :, s + 1] += B0 * w + B1 * w_next
+        X[:, :, s:] += step[m]
     return X[:, :, :s].copy(), X[:, :, s].copy(), X[:, :, s + 1].copy()
 
 
