@@ -21,7 +21,8 @@ A method is a frozen dataclass whose fields are its parameters. It states:
     method and ``u = x[0]``. It is derived from the same formulas as
     :meth:`integrate`, and from it follow the amplification matrix and hence the
     numerical period error and algorithmic damping (:func:`spectral_properties`);
-    the fast modal path also runs this recurrence as a linear filter.
+    the fast modal path runs this recurrence for every mode (compiled, or as linear
+    filters), with sub-steps folded in.
 ``initial_state(m, c, k, dt)``
     The map from (u0, v0, f0) to the first state of that recurrence.
 ``modal_outputs(X, f, c, k, dt)``
