@@ -126,17 +126,8 @@ def modal_recurrence(
 ) -> ModalRecurrence:
     """Each mode's recurrence and read-out from sample to sample.
 
-    Parameters
-    ----------
-    method : Method
-    modes : Modes
-        Undamped modes of (M, K), mass-normalised shapes.
-    zetas : ndarray, shape (n,)
-        Damping ratio of each mode.
-    dt : float
-        Sample step, s.
-    substeps : int
-        Method steps per sample (the method steps at ``dt / substeps``).
+    The parameters are those of :class:`ModalStepper`: the method steps at
+    ``dt / substeps`` (s) and the recurrence goes from one sample to the next.
     """
     w = np.asarray(modes.omegas, dtype=float)
     c = 2.0 * np.asarray(zetas, dtype=float) * w
