@@ -249,7 +249,7 @@ class ModalStepper:
             F = np.empty((W.shape[1], length + 1))
             np.matmul(W.T, P[: length + 1].T, out=F[:, : min(length + 1, P.shape[0])])
             F[:, P.shape[0] :] = F[:, P.shape[0] - 1 : P.shape[0]]  # held after the last
-            X = run_filters(self.bank, F[:, :length], self.zi, tuple(range(self.bank.order)))
+            X = run_filters(self.bank, F[:, :length], self.zi)
             if self._first:
                 X[:, :, 0] = self.x
                 self._first = False

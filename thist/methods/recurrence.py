@@ -238,7 +238,6 @@ def run_filters(
     bank: FilterBank,
     f: np.ndarray,
     zi: np.ndarray,
-    components: tuple[int, ...],
     out: np.ndarray | None = None,
 ) -> np.ndarray:
     """States ``x`` of every system at the samples of ``f``; advances ``zi`` in place.
@@ -252,8 +251,6 @@ def run_filters(
         Filter conditions at the first of these samples (from
         :func:`initial_conditions` or a previous call); overwritten with those
         after the last sample, so that the next call continues the run.
-    components : tuple of int
-        State components to compute (others are left untouched in ``out``).
     out : ndarray, shape (n, s, L), optional
         Where to write the states.
 
@@ -267,7 +264,7 @@ def run_filters(
     den, num = bank.den, bank.num_total
     for i in range(n):  # one C-speed filter per mode and state component
         fi = np.ascontiguousarray(f[i])
-        for c in components:
+        for c in range(bank.order):
             out[i, c], zi[i, c] = _filter(num[i, c], den[i], fi, zi[i, c])
     return out
 
@@ -295,4 +292,4 @@ def filter_states(
     """
     bank = filter_bank(A, B0, B1)
     zi = initial_conditions(bank, x0, f[:, 0])
-    return run_filters(bank, f, zi, tuple(range(bank.order)))
+    return run_filters(bank, f, zi)
